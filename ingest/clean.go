@@ -1,0 +1,197 @@
+package ingest
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"slices"
+	"time"
+)
+
+// Cleaning policy constants; see the package comment and ../shared/design.md.
+const (
+	// DefaultSpikeCeilingW is the power above which a sample is treated as a
+	// spike rather than a real effort (common practice: no cyclist holds
+	// more than about 2500 W even for one second).
+	DefaultSpikeCeilingW = 2500.0
+	// MaxFilledRunS is the longest run of missing seconds, with valid
+	// seconds on both sides, that is filled by linear interpolation.
+	MaxFilledRunS = 5
+	// MinStuckRunS is how long identical non-zero power must last to be
+	// reported as a stuck run.
+	MinStuckRunS = 60
+	// MaxTimelineS is the longest timeline accepted (48 h); a longer one is
+	// a clock error, and refusing it avoids a huge allocation.
+	MaxTimelineS = 48 * 3600
+	// PolicyVersion changes whenever the cleaning policy changes, so that
+	// stored results computed under an older policy can be recognised.
+	PolicyVersion = 1
+)
+
+// Sample is one recorded point before cleaning. Time is Unix seconds (with
+// fraction); a NaN Power, HeartRate or Cadence means "not recorded".
+type Sample struct {
+	UnixS     float64
+	Power     float64
+	HeartRate float64
+	Cadence   float64
+}
+
+// ErrNoPower is returned when a ride carries no usable power value at all.
+var ErrNoPower = errors.New("no power data")
+
+// Clean puts samples onto a 1-Hz timeline following the package's cleaning
+// policy. spikeCeilingW <= 0 selects DefaultSpikeCeilingW. The returned ride
+// has no File, Sport or Session set.
+func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, error) {
+	if spikeCeilingW <= 0 {
+		spikeCeilingW = DefaultSpikeCeilingW
+	}
+	if loc == nil {
+		loc = time.UTC
+	}
+	var q Quality
+	q.Samples = len(samples)
+	first, last := math.Inf(1), math.Inf(-1)
+	for i, s := range samples {
+		if math.IsNaN(s.UnixS) || math.IsInf(s.UnixS, 0) {
+			return Ride{}, fmt.Errorf("sample %d has no valid time", i)
+		}
+		first = min(first, s.UnixS)
+		last = max(last, s.UnixS)
+		if i > 0 && s.UnixS < samples[i-1].UnixS {
+			q.TimeReversals++
+		}
+	}
+	if len(samples) == 0 {
+		return Ride{}, errors.New("no samples")
+	}
+	origin := math.Floor(first)
+	if last-origin >= MaxTimelineS {
+		return Ride{}, fmt.Errorf("timeline of %.0f h is longer than 48 h (clock jump?)", (last-origin)/3600)
+	}
+	n := int(math.Floor(last-origin)) + 1
+
+	power := make([]float64, n)
+	count := make([]int32, n)
+	hr := make([]float64, n)
+	cad := make([]float64, n)
+	hrN := make([]int32, n)
+	cadN := make([]int32, n)
+	spikeBins := map[int]bool{}
+	for _, s := range samples {
+		b := int(s.UnixS - origin)
+		p := s.Power
+		switch {
+		case math.IsNaN(p):
+			// not recorded
+		case math.IsInf(p, 0) || p < 0:
+			q.InvalidValues++
+		case p > spikeCeilingW:
+			q.SpikesRemoved++
+			spikeBins[b] = true
+		default:
+			power[b] += p
+			count[b]++
+		}
+		if h := s.HeartRate; h > 0 && h < 300 {
+			hr[b] += h
+			hrN[b]++
+		}
+		if c := s.Cadence; c >= 0 && c < 300 {
+			cad[b] += c
+			cadN[b]++
+		}
+	}
+	valid := 0
+	for i := range power {
+		if count[i] > 0 {
+			power[i] /= float64(count[i])
+			valid++
+		}
+		if hrN[i] > 0 {
+			hr[i] /= float64(hrN[i])
+		}
+		if cadN[i] > 0 {
+			cad[i] /= float64(cadN[i])
+		}
+	}
+	if valid == 0 {
+		return Ride{}, ErrNoPower
+	}
+	q.Seconds = n
+	q.PowerCoverage = float64(valid) / float64(n)
+	for b := range spikeBins {
+		q.SpikeOffsetsS = append(q.SpikeOffsetsS, b)
+	}
+	slices.Sort(q.SpikeOffsetsS)
+
+	// Missing runs: short ones between valid seconds are interpolated,
+	// everything else is 0 W.
+	for i := 0; i < n; {
+		if count[i] > 0 {
+			i++
+			continue
+		}
+		j := i
+		for j < n && count[j] == 0 {
+			j++
+		}
+		run := Span{StartS: i, Seconds: j - i}
+		if i > 0 && j < n && j-i <= MaxFilledRunS {
+			a, b := power[i-1], power[j]
+			for k := i; k < j; k++ {
+				f := float64(k-i+1) / float64(j-i+1)
+				power[k] = a + (b-a)*f
+			}
+			q.Dropouts = append(q.Dropouts, run)
+			q.DropoutSeconds += run.Seconds
+		} else {
+			// power[k] is already 0
+			q.Gaps = append(q.Gaps, run)
+			q.GapSeconds += run.Seconds
+		}
+		i = j
+	}
+
+	// Stuck runs: identical non-zero power for MinStuckRunS or more.
+	for i := 0; i < n; {
+		j := i + 1
+		for j < n && power[j] == power[i] {
+			j++
+		}
+		if power[i] > 0 && j-i >= MinStuckRunS {
+			q.StuckRuns = append(q.StuckRuns, StuckRun{Span{i, j - i}, power[i]})
+		}
+		i = j
+	}
+	q.RecordingIntervalS = recordingInterval(samples)
+
+	sec, frac := math.Modf(origin)
+	return Ride{
+		Start:        time.Unix(int64(sec), int64(frac*1e9)).In(loc),
+		PowerW:       power,
+		HeartRateBPM: hr,
+		CadenceRPM:   cad,
+		Quality:      q,
+	}, nil
+}
+
+// recordingInterval returns the most common positive step between
+// consecutive samples, to the millisecond.
+func recordingInterval(samples []Sample) float64 {
+	counts := map[int64]int{}
+	for i := 1; i < len(samples); i++ {
+		d := samples[i].UnixS - samples[i-1].UnixS
+		if d > 0 {
+			counts[int64(math.Round(d*1000))]++
+		}
+	}
+	best, bestN := int64(0), 0
+	for d, c := range counts {
+		if c > bestN || (c == bestN && d < best) {
+			best, bestN = d, c
+		}
+	}
+	return float64(best) / 1000
+}

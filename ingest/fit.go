@@ -1,0 +1,164 @@
+package ingest
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"strings"
+	"time"
+
+	"github.com/tormoder/fit"
+)
+
+// fitEpoch: FIT timestamps count from 1989-12-31; anything at or before it
+// is the library's "no timestamp".
+var fitEpoch = time.Date(1989, 12, 31, 0, 0, 0, 0, time.UTC).Unix()
+
+// decodeFIT reads a FIT activity. A file cut short keeps the records decoded
+// before the cut (Truncated); a checksum mismatch on a complete file is an
+// error unless opts.Salvage.
+func decodeFIT(r io.Reader, opts Options) ([]Ride, error) {
+	f, err := fit.Decode(r)
+	if f == nil {
+		if err == nil {
+			err = errors.New("no data")
+		}
+		return nil, fmt.Errorf("not a readable FIT file: %v", err)
+	}
+	var truncated, salvaged bool
+	if err != nil {
+		var integrity fit.IntegrityError
+		switch {
+		case strings.Contains(err.Error(), io.ErrUnexpectedEOF.Error()):
+			truncated = true
+		case errors.As(err, &integrity):
+			if !opts.Salvage {
+				return nil, errors.New("FIT checksum does not match (the file is damaged; --salvage reads it anyway)")
+			}
+			salvaged = true
+		default:
+			if !opts.Salvage {
+				return nil, fmt.Errorf("damaged FIT file (%v; --salvage keeps the records before the damage)", err)
+			}
+			salvaged = true
+		}
+	}
+	if t := f.Type(); t != fit.FileTypeActivity {
+		return nil, fmt.Errorf("FIT file is not an activity (file type %s)", strings.ToLower(t.String()))
+	}
+	act, aerr := f.Activity()
+	if aerr != nil {
+		return nil, aerr
+	}
+	loc := time.UTC
+	if a := act.Activity; a != nil && !a.LocalTimestamp.IsZero() && !a.Timestamp.IsZero() {
+		if off := a.LocalTimestamp.Unix() - a.Timestamp.Unix(); off > -15*3600 && off < 15*3600 && a.LocalTimestamp.Unix() > fitEpoch {
+			loc = time.FixedZone("", int(off))
+		}
+	}
+
+	samples := make([]Sample, 0, len(act.Records))
+	for _, rec := range act.Records {
+		ts := rec.Timestamp.Unix()
+		if ts <= fitEpoch {
+			continue
+		}
+		s := Sample{UnixS: float64(ts), Power: math.NaN(), HeartRate: math.NaN(), Cadence: math.NaN()}
+		if rec.Power != 0xFFFF {
+			s.Power = float64(rec.Power)
+		}
+		if rec.HeartRate != 0xFF {
+			s.HeartRate = float64(rec.HeartRate)
+		}
+		if rec.Cadence != 0xFF {
+			s.Cadence = float64(rec.Cadence)
+		}
+		samples = append(samples, s)
+	}
+	if len(samples) == 0 {
+		if truncated {
+			return nil, errors.New("FIT file cut short before any record")
+		}
+		return nil, errors.New("FIT activity has no records")
+	}
+
+	type part struct {
+		sport   string
+		samples []Sample
+	}
+	var parts []part
+	sessions := act.Sessions
+	if len(sessions) <= 1 {
+		sport := "unknown"
+		if len(sessions) == 1 {
+			sport = fitSport(sessions[0].Sport)
+		}
+		parts = []part{{sport, samples}}
+	} else {
+		for _, s := range sessions {
+			a, b := s.StartTime.Unix(), s.Timestamp.Unix()
+			var in []Sample
+			for _, x := range samples {
+				if x.UnixS >= float64(a) && x.UnixS <= float64(b) {
+					in = append(in, x)
+				}
+			}
+			if len(in) > 0 {
+				parts = append(parts, part{fitSport(s.Sport), in})
+			}
+		}
+		if len(parts) == 0 { // sessions without usable times
+			parts = []part{{fitSport(sessions[0].Sport), samples}}
+		}
+	}
+
+	var rides []Ride
+	var reasons []string
+	for i, p := range parts {
+		if !sportAccepted(p.sport, opts) {
+			reasons = append(reasons, sessionReason(i, len(parts), fmt.Sprintf("sport is %s, not cycling (--sport any keeps it)", p.sport)))
+			continue
+		}
+		ride, err := Clean(p.samples, opts.SpikeCeilingW, loc)
+		if err != nil {
+			reasons = append(reasons, sessionReason(i, len(parts), err.Error()))
+			continue
+		}
+		ride.Session = i
+		ride.Sport = p.sport
+		ride.Quality.Truncated = truncated
+		ride.Quality.Salvaged = salvaged
+		if p.sport == "unknown" {
+			ride.Quality.Notes = append(ride.Quality.Notes, "sport not recorded; read as cycling")
+		}
+		rides = append(rides, ride)
+	}
+	if len(rides) == 0 {
+		return nil, errors.New(strings.Join(reasons, "; "))
+	}
+	return rides, nil
+}
+
+func sessionReason(i, n int, reason string) string {
+	if n == 1 {
+		return reason
+	}
+	return fmt.Sprintf("session %d: %s", i+1, reason)
+}
+
+func fitSport(s fit.Sport) string {
+	switch s {
+	case fit.SportCycling:
+		return "cycling"
+	case fit.SportGeneric, fit.SportInvalid, fit.SportAll:
+		return "unknown"
+	}
+	return strings.ToLower(s.String())
+}
+
+// sportAccepted keeps cycling and rides whose sport was not recorded; other
+// sports only with opts.AnySport.
+func sportAccepted(sport string, opts Options) bool {
+	return opts.AnySport || sport == "cycling" || sport == "unknown"
+}

@@ -1,0 +1,218 @@
+package ingest
+
+import (
+	"bufio"
+	"bytes"
+	"compress/gzip"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"regexp"
+	"strings"
+	"time"
+)
+
+// Options controls reading and cleaning. The zero value is usable.
+type Options struct {
+	// SpikeCeilingW: power above it is a spike (default 2500 W).
+	SpikeCeilingW float64
+	// Salvage reads the records of a FIT file whose checksum does not
+	// match, or of a malformed TCX file up to the fault, instead of skipping it.
+	Salvage bool
+	// AnySport keeps sessions of every sport, not only cycling.
+	AnySport bool
+	// MaxDecompressedBytes caps what a .gz file may expand to (default 256 MiB).
+	MaxDecompressedBytes int64
+	// Workers is the number of files decoded at once (default: number of CPUs).
+	Workers int
+	// Progress, when set, is called after each file with the count done and
+	// the total. It is called from one goroutine at a time.
+	Progress func(done, total int)
+}
+
+const defaultMaxDecompressed = 256 << 20
+
+// maxFileBytes bounds a plain file: no ride file is anywhere near 1 GiB.
+const maxFileBytes = 1 << 30
+
+// FileError is a file that could not be read, with the reason.
+type FileError struct {
+	Path   string
+	Reason error
+}
+
+func (e *FileError) Error() string { return e.Path + ": " + e.Reason.Error() }
+func (e *FileError) Unwrap() error { return e.Reason }
+
+// Format is a ride file format, recognised by content.
+type Format string
+
+// The formats Read understands.
+const (
+	FormatFIT Format = "fit"
+	FormatTCX Format = "tcx"
+	FormatCSV Format = "csv"
+)
+
+var errTooLarge = errors.New("decompressed size is over the limit (a gzip bomb?)")
+
+// capReader fails once more than n bytes have been read.
+type capReader struct {
+	r io.Reader
+	n int64
+}
+
+func (c *capReader) Read(p []byte) (int, error) {
+	if c.n <= 0 {
+		// one byte more tells a file of exactly the limit from a larger one
+		var b [1]byte
+		if k, _ := c.r.Read(b[:]); k > 0 {
+			return 0, errTooLarge
+		}
+		return 0, io.EOF
+	}
+	if int64(len(p)) > c.n {
+		p = p[:c.n]
+	}
+	k, err := c.r.Read(p)
+	c.n -= int64(k)
+	return k, err
+}
+
+// ReadFile reads every ride in the file at path. Errors are *FileError.
+func ReadFile(path string, opts Options) ([]Ride, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, &FileError{path, unwrapPathError(err)}
+	}
+	defer f.Close()
+	fallback := startFromName(path)
+	if fallback.IsZero() {
+		if st, err := f.Stat(); err == nil {
+			fallback = st.ModTime()
+		}
+	}
+	rides, err := Read(f, path, fallback, opts)
+	if err != nil {
+		return nil, &FileError{path, err}
+	}
+	return rides, nil
+}
+
+func unwrapPathError(err error) error {
+	var pe *os.PathError
+	if errors.As(err, &pe) {
+		return pe.Err
+	}
+	return err
+}
+
+// Read decodes rides from r, whose format is recognised by content (gzip,
+// FIT header, XML, else CSV). name labels the rides; fallbackStart dates a
+// CSV file whose time column holds elapsed seconds only.
+func Read(r io.Reader, name string, fallbackStart time.Time, opts Options) (rides []Ride, err error) {
+	defer func() {
+		// A decoder bug must cost one file, never the batch.
+		if p := recover(); p != nil {
+			rides, err = nil, fmt.Errorf("decoder failed on this file: %v", p)
+		}
+	}()
+	br := bufio.NewReaderSize(&capReader{r, maxFileBytes}, 64<<10)
+	head, _ := br.Peek(2)
+	if len(head) == 0 {
+		return nil, errors.New("empty file")
+	}
+	if head[0] == 0x1f && len(head) == 2 && head[1] == 0x8b {
+		gz, err := gzip.NewReader(br)
+		if err != nil {
+			return nil, fmt.Errorf("gzip: %w", err)
+		}
+		limit := opts.MaxDecompressedBytes
+		if limit <= 0 {
+			limit = defaultMaxDecompressed
+		}
+		br = bufio.NewReaderSize(&capReader{gz, limit}, 64<<10)
+		if h, _ := br.Peek(1); len(h) == 0 {
+			return nil, errors.New("empty file inside gzip")
+		}
+	}
+	format, err := sniff(br, name)
+	if err != nil {
+		return nil, err
+	}
+	switch format {
+	case FormatFIT:
+		rides, err = decodeFIT(br, opts)
+	case FormatTCX:
+		rides, err = decodeTCX(br, opts)
+	default:
+		rides, err = decodeCSV(br, fallbackStart, opts)
+	}
+	if err != nil {
+		return nil, err
+	}
+	for i := range rides {
+		rides[i].File = name
+	}
+	return rides, nil
+}
+
+// sniff tells the format from the first bytes.
+func sniff(br *bufio.Reader, name string) (Format, error) {
+	head, _ := br.Peek(512)
+	if len(head) >= 12 && (head[0] == 12 || head[0] == 14) && string(head[8:12]) == ".FIT" {
+		return FormatFIT, nil
+	}
+	trimmed := bytes.TrimLeft(bytes.TrimPrefix(head, []byte("\xef\xbb\xbf")), " \t\r\n")
+	if len(trimmed) > 0 && trimmed[0] == '<' {
+		return FormatTCX, nil
+	}
+	if looksLikeText(head) {
+		return FormatCSV, nil
+	}
+	if strings.Contains(strings.ToLower(name), ".fit") {
+		return "", errors.New("not a FIT file (no FIT header)")
+	}
+	return "", errors.New("not a FIT, TCX or CSV file")
+}
+
+func looksLikeText(b []byte) bool {
+	for _, c := range b {
+		if c == 0 || (c < 32 && c != '\n' && c != '\r' && c != '\t') {
+			return false
+		}
+	}
+	return true
+}
+
+var dateInName = regexp.MustCompile(`(20\d\d|19\d\d)-?(0[1-9]|1[0-2])-?(0[1-9]|[12]\d|3[01])`)
+
+// startFromName finds a date such as 2026-03-14 or 20260314 in a file name.
+func startFromName(path string) time.Time {
+	m := dateInName.FindStringSubmatch(filepath.Base(path))
+	if m == nil {
+		return time.Time{}
+	}
+	t, err := time.Parse("20060102", m[1]+m[2]+m[3])
+	if err != nil {
+		return time.Time{}
+	}
+	return t
+}
+
+// IsRideName reports whether a file name looks like a ride file: .fit, .tcx
+// or .csv, optionally followed by .gz, in any case. Hidden files are not.
+func IsRideName(name string) bool {
+	base := strings.ToLower(filepath.Base(name))
+	if strings.HasPrefix(base, ".") {
+		return false
+	}
+	base = strings.TrimSuffix(base, ".gz")
+	switch filepath.Ext(base) {
+	case ".fit", ".tcx", ".csv":
+		return true
+	}
+	return false
+}

@@ -1,0 +1,114 @@
+// Package ingest reads ride files (FIT, TCX and CSV, each also gzip
+// compressed) and turns each recorded ride into a Ride: power on a clean
+// 1-Hz timeline plus a quality report saying what cleaning had to do.
+//
+// Every format goes through one cleaning policy (see Clean), so a power
+// curve computed downstream is the same whatever file the ride came from:
+//
+//   - samples are put into 1-second bins counted from the first sample;
+//   - several samples in a bin are averaged;
+//   - missing, negative, non-finite and implausibly high values ("spikes",
+//     above a ceiling of 2500 W by default) are treated as missing;
+//   - a run of at most 5 missing seconds between two valid seconds is
+//     filled by linear interpolation (a sensor dropout); every other missing
+//     second is 0 W (stopped, paused, or a long dropout);
+//   - constant non-zero power for 60 s or more is reported as a stuck run
+//     but left as it is.
+//
+// Nothing in this package prints or writes files: Scan returns rides and a
+// reason for every file it could not read.
+package ingest
+
+import "time"
+
+// Watts is a power in watts.
+type Watts = float64
+
+// Span is a run of seconds on a ride's 1-Hz timeline.
+type Span struct {
+	StartS  int `json:"start_s"`
+	Seconds int `json:"seconds"`
+}
+
+// End returns the first second after the span.
+func (s Span) End() int { return s.StartS + s.Seconds }
+
+// Overlaps reports whether s shares at least one second with [start, start+n).
+func (s Span) Overlaps(start, n int) bool {
+	return s.StartS < start+n && start < s.End()
+}
+
+// StuckRun is a stretch of identical non-zero power, which a working power
+// meter almost never records for a minute or more.
+type StuckRun struct {
+	Span
+	Watts Watts `json:"watts"`
+}
+
+// Quality says how much of a ride was recorded cleanly and what cleaning did.
+// Offsets are seconds from the ride's start.
+type Quality struct {
+	Samples            int        `json:"samples"`
+	Seconds            int        `json:"seconds"`
+	PowerCoverage      float64    `json:"power_coverage"` // fraction of seconds with a recorded, valid power value
+	RecordingIntervalS float64    `json:"recording_interval_s"`
+	Gaps               []Span     `json:"gaps"` // missing runs set to 0 W
+	GapSeconds         int        `json:"gap_s"`
+	Dropouts           []Span     `json:"dropouts"` // short missing runs filled by interpolation
+	DropoutSeconds     int        `json:"dropout_s"`
+	SpikesRemoved      int        `json:"spikes_removed"`
+	SpikeOffsetsS      []int      `json:"spike_offsets_s"`
+	InvalidValues      int        `json:"invalid_values"` // NaN, infinite or negative power samples
+	TimeReversals      int        `json:"time_reversals"` // samples whose time went backwards
+	StuckRuns          []StuckRun `json:"stuck_runs"`
+	Truncated          bool       `json:"truncated"`
+	Salvaged           bool       `json:"salvaged"`
+	Notes              []string   `json:"notes,omitempty"`
+}
+
+// Ride is one recorded ride (one session of a file) on a clean 1-Hz timeline.
+// PowerW[i] is the mean power of second i after Start.
+type Ride struct {
+	File         string    // path the ride was read from
+	Session      int       // index of the session within the file (0 for most files)
+	Start        time.Time // time of the first sample
+	Sport        string    // "cycling", "running", … or "unknown"
+	PowerW       []Watts
+	HeartRateBPM []float64 // 0 where not recorded
+	CadenceRPM   []float64 // 0 where not recorded
+	Quality      Quality
+}
+
+// Date returns the ride's start date as YYYY-MM-DD in the recorded time zone.
+func (r *Ride) Date() string { return r.Start.Format("2006-01-02") }
+
+// Seconds returns the length of the ride's timeline.
+func (r *Ride) Seconds() int { return len(r.PowerW) }
+
+// FlaggedSeconds counts the seconds of [start, start+n) that cleaning had to
+// touch or that look suspect: interpolated dropouts, zeroed gaps, removed
+// spikes and stuck runs.
+func (q *Quality) FlaggedSeconds(start, n int) int {
+	flagged := 0
+	overlap := func(s Span) {
+		a, b := max(s.StartS, start), min(s.End(), start+n)
+		if b > a {
+			flagged += b - a
+		}
+	}
+	for _, s := range q.Dropouts {
+		overlap(s)
+	}
+	for _, s := range q.Gaps {
+		overlap(s)
+	}
+	for _, s := range q.StuckRuns {
+		overlap(s.Span)
+	}
+	for _, o := range q.SpikeOffsetsS {
+		if o >= start && o < start+n {
+			flagged++
+		}
+	}
+	return flagged
+}

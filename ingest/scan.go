@@ -1,0 +1,186 @@
+package ingest
+
+import (
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"runtime"
+	"sort"
+	"sync"
+	"syscall"
+)
+
+// Skipped is a file that was not analysed, with a one-line reason.
+type Skipped struct {
+	File   string `json:"file"`
+	Reason string `json:"reason"`
+}
+
+// Result is what a scan found: rides in order (start time, then path, then
+// session) and the files it had to skip.
+type Result struct {
+	Rides   []Ride
+	Skipped []Skipped
+}
+
+// Scan reads every ride under paths. A path may be a file (read whatever its
+// name) or a folder (walked recursively, following links but never around a
+// loop, reading only files whose names look like rides). Files are decoded in
+// parallel on a bounded pool. Nothing is written anywhere.
+func Scan(paths []string, opts Options) Result {
+	files, skipped := ListFiles(paths)
+	var res Result
+	res.Skipped = skipped
+	perFile := make([][]Ride, len(files))
+	errs := make([]error, len(files))
+	Each(files, opts, func(i int, rides []Ride, err error) {
+		perFile[i], errs[i] = rides, err
+	})
+	for i := range files {
+		if errs[i] != nil {
+			res.Skipped = append(res.Skipped, Skipped{files[i], reasonOf(errs[i])})
+			continue
+		}
+		res.Rides = append(res.Rides, perFile[i]...)
+	}
+	SortRides(res.Rides)
+	sort.SliceStable(res.Skipped, func(a, b int) bool { return res.Skipped[a].File < res.Skipped[b].File })
+	return res
+}
+
+// Each decodes files on a pool of opts.Workers goroutines and calls fn once
+// per file, from one goroutine at a time, in no particular order.
+func Each(files []string, opts Options, fn func(i int, rides []Ride, err error)) {
+	workers := opts.Workers
+	if workers <= 0 {
+		workers = runtime.NumCPU()
+	}
+	workers = min(workers, max(len(files), 1))
+	jobs := make(chan int)
+	type out struct {
+		i     int
+		rides []Ride
+		err   error
+	}
+	results := make(chan out)
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range jobs {
+				rides, err := ReadFile(files[i], opts)
+				results <- out{i, rides, err}
+			}
+		}()
+	}
+	go func() {
+		for i := range files {
+			jobs <- i
+		}
+		close(jobs)
+		wg.Wait()
+		close(results)
+	}()
+	done := 0
+	for o := range results {
+		fn(o.i, o.rides, o.err)
+		done++
+		if opts.Progress != nil {
+			opts.Progress(done, len(files))
+		}
+	}
+}
+
+// SortRides orders rides by start time, then path, then session.
+func SortRides(rides []Ride) {
+	sort.SliceStable(rides, func(a, b int) bool {
+		ra, rb := &rides[a], &rides[b]
+		if !ra.Start.Equal(rb.Start) {
+			return ra.Start.Before(rb.Start)
+		}
+		if ra.File != rb.File {
+			return ra.File < rb.File
+		}
+		return ra.Session < rb.Session
+	})
+}
+
+func reasonOf(err error) string {
+	var fe *FileError
+	if errors.As(err, &fe) {
+		return fe.Reason.Error()
+	}
+	return err.Error()
+}
+
+// ListFiles expands paths into the ride files to read, sorted. Files named
+// explicitly are always listed; inside folders only names that look like
+// rides (IsRideName) are. Paths that do not exist are returned as skipped.
+func ListFiles(paths []string) ([]string, []Skipped) {
+	var files []string
+	var skipped []Skipped
+	seenFile := map[string]bool{}
+	add := func(p string) {
+		if !seenFile[p] {
+			seenFile[p] = true
+			files = append(files, p)
+		}
+	}
+	for _, p := range paths {
+		st, err := os.Stat(p)
+		if err != nil {
+			skipped = append(skipped, Skipped{p, unwrapPathError(err).Error()})
+			continue
+		}
+		if !st.IsDir() {
+			add(p)
+			continue
+		}
+		visited := map[fileKey]bool{}
+		walk(p, st, visited, add, &skipped)
+	}
+	sort.Strings(files)
+	return files, skipped
+}
+
+type fileKey struct{ dev, ino uint64 }
+
+func keyOf(st os.FileInfo) (fileKey, bool) {
+	if s, ok := st.Sys().(*syscall.Stat_t); ok {
+		return fileKey{uint64(s.Dev), uint64(s.Ino)}, true
+	}
+	return fileKey{}, false
+}
+
+// walk visits dir recursively; visited holds the folders already entered, so
+// a link back up the tree is not followed twice.
+func walk(dir string, st os.FileInfo, visited map[fileKey]bool, add func(string), skipped *[]Skipped) {
+	if k, ok := keyOf(st); ok {
+		if visited[k] {
+			return
+		}
+		visited[k] = true
+	}
+	entries, err := os.ReadDir(dir)
+	if err != nil {
+		*skipped = append(*skipped, Skipped{dir, fmt.Sprintf("folder not readable: %v", unwrapPathError(err))})
+		return
+	}
+	for _, e := range entries {
+		if len(e.Name()) > 0 && e.Name()[0] == '.' {
+			continue
+		}
+		p := filepath.Join(dir, e.Name())
+		est, err := os.Stat(p) // follows links
+		if err != nil {
+			continue // dangling link
+		}
+		if est.IsDir() {
+			walk(p, est, visited, add, skipped)
+		} else if est.Mode().IsRegular() && IsRideName(e.Name()) {
+			add(p)
+		}
+	}
+}

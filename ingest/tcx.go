@@ -1,0 +1,171 @@
+package ingest
+
+import (
+	"encoding/xml"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+	"time"
+)
+
+// decodeTCX streams a Training Center Database (v2) file token by token, so
+// a long ride is never held as a tree. Elements are matched by local name,
+// whatever namespace prefix the writer used. Each Activity is one ride.
+func decodeTCX(r io.Reader, opts Options) ([]Ride, error) {
+	d := xml.NewDecoder(r)
+	d.Strict = true
+
+	type activity struct {
+		sport   string
+		samples []Sample
+	}
+	var (
+		acts     []activity
+		cur      *activity
+		inPoint  bool
+		pt       Sample
+		ptTime   bool
+		path     []string // local names of open elements
+		text     strings.Builder
+		sawTCX   bool
+		loc      *time.Location
+		decodeEr error
+	)
+	for {
+		tok, err := d.Token()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			decodeEr = err
+			break
+		}
+		switch t := tok.(type) {
+		case xml.StartElement:
+			name := t.Name.Local
+			path = append(path, name)
+			text.Reset()
+			switch name {
+			case "TrainingCenterDatabase":
+				sawTCX = true
+			case "Activity":
+				acts = append(acts, activity{sport: "unknown"})
+				cur = &acts[len(acts)-1]
+				for _, a := range t.Attr {
+					if a.Name.Local == "Sport" {
+						cur.sport = tcxSport(a.Value)
+					}
+				}
+			case "Trackpoint":
+				inPoint = true
+				ptTime = false
+				pt = Sample{Power: math.NaN(), HeartRate: math.NaN(), Cadence: math.NaN()}
+			}
+		case xml.CharData:
+			if inPoint {
+				text.Write(t)
+			}
+		case xml.EndElement:
+			name := t.Name.Local
+			parent := ""
+			if len(path) >= 2 {
+				parent = path[len(path)-2]
+			}
+			if len(path) > 0 {
+				path = path[:len(path)-1]
+			}
+			if !inPoint {
+				continue
+			}
+			v := strings.TrimSpace(text.String())
+			text.Reset()
+			switch name {
+			case "Time":
+				if parent == "Trackpoint" {
+					if tm, err := time.Parse(time.RFC3339Nano, v); err == nil {
+						pt.UnixS = float64(tm.UnixNano()) / 1e9
+						ptTime = true
+						if loc == nil {
+							loc = tm.Location()
+						}
+					}
+				}
+			case "Value":
+				if parent == "HeartRateBpm" {
+					pt.HeartRate = parseNumber(v)
+				}
+			case "Cadence":
+				if parent == "Trackpoint" {
+					pt.Cadence = parseNumber(v)
+				}
+			case "Watts":
+				pt.Power = parseNumber(v)
+			case "Trackpoint":
+				inPoint = false
+				if ptTime {
+					if cur == nil {
+						acts = append(acts, activity{sport: "unknown"})
+						cur = &acts[len(acts)-1]
+					}
+					cur.samples = append(cur.samples, pt)
+				}
+			}
+		}
+	}
+	if decodeEr != nil && !(opts.Salvage && len(acts) > 0) {
+		return nil, fmt.Errorf("malformed XML: %v", decodeEr)
+	}
+	if !sawTCX {
+		return nil, errors.New("XML file is not a TCX (no TrainingCenterDatabase element)")
+	}
+	var rides []Ride
+	var reasons []string
+	for i, a := range acts {
+		if !sportAccepted(a.sport, opts) {
+			reasons = append(reasons, sessionReason(i, len(acts), fmt.Sprintf("sport is %s, not cycling (--sport any keeps it)", a.sport)))
+			continue
+		}
+		if len(a.samples) == 0 {
+			reasons = append(reasons, sessionReason(i, len(acts), "no trackpoints with a time"))
+			continue
+		}
+		ride, err := Clean(a.samples, opts.SpikeCeilingW, loc)
+		if err != nil {
+			reasons = append(reasons, sessionReason(i, len(acts), err.Error()))
+			continue
+		}
+		ride.Session = i
+		ride.Sport = a.sport
+		ride.Quality.Salvaged = decodeEr != nil
+		rides = append(rides, ride)
+	}
+	if len(rides) == 0 {
+		if len(reasons) == 0 {
+			return nil, errors.New("TCX file has no activity")
+		}
+		return nil, errors.New(strings.Join(reasons, "; "))
+	}
+	return rides, nil
+}
+
+func tcxSport(s string) string {
+	switch strings.ToLower(s) {
+	case "biking", "cycling":
+		return "cycling"
+	case "running":
+		return "running"
+	}
+	return "unknown"
+}
+
+// parseNumber reads a decimal number; anything else is NaN (missing).
+func parseNumber(s string) float64 {
+	v, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
+	if err != nil {
+		return math.NaN()
+	}
+	return v
+}

@@ -1,0 +1,91 @@
+// Package synth invents rides for tests and the demo: an invented athlete
+// whose maximal power follows a known power-duration relation, riding
+// field-like sessions (mostly submaximal, a few maximal efforts, noise and
+// the ordinary faults of power meters), written as FIT, TCX or CSV.
+//
+// Everything here is invented. Ground-truth tests use it because the true
+// critical power and W′ of an invented athlete are known exactly.
+package synth
+
+import (
+	"math"
+	"math/rand/v2"
+	"time"
+)
+
+// Athlete is an invented rider whose best sustainable power for t seconds
+// follows Morton's 3-parameter model (Morton 1996):
+// P(t) = CP + W′/(t + W′/(Pmax − CP)).
+type Athlete struct {
+	Name    string
+	CPW     float64 // critical power, watts
+	WPrimeJ float64 // W′, joules
+	PmaxW   float64 // peak power, watts
+}
+
+// MaxPower returns the highest mean power the athlete can hold for t seconds.
+func (a Athlete) MaxPower(t float64) float64 {
+	return a.CPW + a.WPrimeJ/(t+a.WPrimeJ/(a.PmaxW-a.CPW))
+}
+
+// Segment is a stretch of steady target power.
+type Segment struct {
+	Seconds int
+	Watts   float64
+	Maximal bool // a maximal effort: held without noise so its mean is exact
+}
+
+// Track is a ride's recorded samples at 1 Hz before any cleaning: NaN in
+// PowerW means the sample carries no power value, and Skip[i] that sample i
+// was not recorded at all.
+type Track struct {
+	Start        time.Time
+	Sport        string // "cycling", "running", …
+	PowerW       []float64
+	HeartRateBPM []float64 // optional
+	CadenceRPM   []float64 // optional
+	Skip         []bool    // optional
+}
+
+// Build renders segments to 1-Hz power with Gaussian noise of noiseW on the
+// submaximal segments, rounded to whole watts as meters record them.
+func Build(start time.Time, segs []Segment, noiseW float64, seed uint64) Track {
+	rng := rand.New(rand.NewPCG(seed, seed^0x5eed))
+	var p, hr, cad []float64
+	for _, s := range segs {
+		for range s.Seconds {
+			w := s.Watts
+			if !s.Maximal && w > 0 {
+				w = math.Max(0, w+rng.NormFloat64()*noiseW)
+			}
+			p = append(p, math.Round(w))
+			h := 95 + 0.25*w
+			hr = append(hr, math.Round(math.Min(h, 195)))
+			c := 0.0
+			if w > 0 {
+				c = math.Round(80 + rng.NormFloat64()*3)
+			}
+			cad = append(cad, c)
+		}
+	}
+	return Track{Start: start, Sport: "cycling", PowerW: p, HeartRateBPM: hr, CadenceRPM: cad}
+}
+
+// FieldRide is a typical outdoor session: a warm-up, endurance riding at
+// about 65 % of CP, and a maximal effort of each given duration (seconds)
+// separated by easy recovery.
+func FieldRide(a Athlete, start time.Time, minutes int, efforts []int, seed uint64) Track {
+	segs := []Segment{{Seconds: 600, Watts: 0.55 * a.CPW}}
+	rest := minutes*60 - 600
+	for _, d := range efforts {
+		segs = append(segs,
+			Segment{Seconds: 600, Watts: 0.65 * a.CPW},
+			Segment{Seconds: d, Watts: a.MaxPower(float64(d)), Maximal: true},
+			Segment{Seconds: 600, Watts: 0.45 * a.CPW})
+		rest -= 1200 + d
+	}
+	if rest > 0 {
+		segs = append(segs, Segment{Seconds: rest, Watts: 0.65 * a.CPW})
+	}
+	return Build(start, segs, 0.08*a.CPW, seed)
+}

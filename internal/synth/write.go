@@ -1,0 +1,152 @@
+package synth
+
+import (
+	"encoding/binary"
+	"encoding/csv"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"time"
+
+	"github.com/tormoder/fit"
+)
+
+func (t Track) skipped(i int) bool { return i < len(t.Skip) && t.Skip[i] }
+
+func at(v []float64, i int) float64 {
+	if i < len(v) {
+		return v[i]
+	}
+	return math.NaN()
+}
+
+// WriteFIT writes the track as a FIT activity file with one session.
+func WriteFIT(w io.Writer, t Track) error {
+	h := fit.NewHeader(fit.V20, false)
+	f, err := fit.NewFile(fit.FileTypeActivity, h)
+	if err != nil {
+		return err
+	}
+	f.FileId.TimeCreated = t.Start
+	f.FileId.Manufacturer = fit.ManufacturerDevelopment
+	act, err := f.Activity()
+	if err != nil {
+		return err
+	}
+	for i, p := range t.PowerW {
+		if t.skipped(i) {
+			continue
+		}
+		r := fit.NewRecordMsg()
+		r.Timestamp = t.Start.Add(time.Duration(i) * time.Second)
+		if !math.IsNaN(p) && p >= 0 && p < 0xFFFF {
+			r.Power = uint16(math.Round(p))
+		}
+		if h := at(t.HeartRateBPM, i); h > 0 && h < 255 {
+			r.HeartRate = uint8(h)
+		}
+		if c := at(t.CadenceRPM, i); c >= 0 && c < 255 {
+			r.Cadence = uint8(c)
+		}
+		act.Records = append(act.Records, r)
+	}
+	end := t.Start.Add(time.Duration(len(t.PowerW)-1) * time.Second)
+	s := fit.NewSessionMsg()
+	s.StartTime = t.Start
+	s.Timestamp = end
+	s.Sport = fitSport(t.Sport)
+	s.TotalElapsedTime = uint32(len(t.PowerW) * 1000)
+	act.Sessions = append(act.Sessions, s)
+	a := fit.NewActivityMsg()
+	a.Timestamp = end
+	a.NumSessions = 1
+	act.Activity = a
+	return fit.Encode(w, f, binary.LittleEndian)
+}
+
+func fitSport(s string) fit.Sport {
+	switch s {
+	case "running":
+		return fit.SportRunning
+	case "cycling", "":
+		return fit.SportCycling
+	}
+	return fit.SportGeneric
+}
+
+// WriteTCX writes the track as a Training Center Database v2 file, power in
+// the ns3 trackpoint extension.
+func WriteTCX(w io.Writer, t Track) error {
+	sport := "Biking"
+	switch t.Sport {
+	case "running":
+		sport = "Running"
+	case "cycling", "":
+	default:
+		sport = "Other"
+	}
+	bw := &errWriter{w: w}
+	bw.printf(`<?xml version="1.0" encoding="UTF-8"?>
+<TrainingCenterDatabase xmlns="http://www.garmin.com/xmlschemas/TrainingCenterDatabase/v2" xmlns:ns3="http://www.garmin.com/xmlschemas/ActivityExtension/v2">
+ <Activities>
+  <Activity Sport="%s">
+   <Id>%s</Id>
+   <Lap StartTime="%s">
+    <Track>
+`, sport, t.Start.UTC().Format(time.RFC3339), t.Start.UTC().Format(time.RFC3339))
+	for i, p := range t.PowerW {
+		if t.skipped(i) {
+			continue
+		}
+		bw.printf("     <Trackpoint><Time>%s</Time>", t.Start.Add(time.Duration(i)*time.Second).UTC().Format(time.RFC3339))
+		if h := at(t.HeartRateBPM, i); h > 0 {
+			bw.printf("<HeartRateBpm><Value>%d</Value></HeartRateBpm>", int(h))
+		}
+		if c := at(t.CadenceRPM, i); c >= 0 {
+			bw.printf("<Cadence>%d</Cadence>", int(c))
+		}
+		if !math.IsNaN(p) {
+			bw.printf("<Extensions><ns3:TPX><ns3:Watts>%s</ns3:Watts></ns3:TPX></Extensions>", strconv.FormatFloat(p, 'f', -1, 64))
+		}
+		bw.printf("</Trackpoint>\n")
+	}
+	bw.printf("    </Track>\n   </Lap>\n  </Activity>\n </Activities>\n</TrainingCenterDatabase>\n")
+	return bw.err
+}
+
+// WriteCSV writes the track as CSV with an RFC 3339 time column.
+func WriteCSV(w io.Writer, t Track) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write([]string{"timestamp", "power", "heart_rate", "cadence"}); err != nil {
+		return err
+	}
+	num := func(v float64) string {
+		if math.IsNaN(v) {
+			return ""
+		}
+		return strconv.FormatFloat(v, 'f', -1, 64)
+	}
+	for i, p := range t.PowerW {
+		if t.skipped(i) {
+			continue
+		}
+		ts := t.Start.Add(time.Duration(i) * time.Second).UTC().Format(time.RFC3339)
+		if err := cw.Write([]string{ts, num(p), num(at(t.HeartRateBPM, i)), num(at(t.CadenceRPM, i))}); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+type errWriter struct {
+	w   io.Writer
+	err error
+}
+
+func (e *errWriter) printf(format string, args ...any) {
+	if e.err == nil {
+		_, e.err = fmt.Fprintf(e.w, format, args...)
+	}
+}
