@@ -47,20 +47,42 @@ type Track struct {
 	Skip         []bool    // optional
 }
 
-// Build renders segments to 1-Hz power with Gaussian noise of noiseW on the
-// submaximal segments, rounded to whole watts as meters record them.
+// Build renders segments to 1-Hz power: Gaussian noise of noiseW on the
+// submaximal segments, rounded to whole watts as meters record them; on
+// maximal segments 2 % noise around a mean that is the target to within
+// the rounding (a fraction of a watt).
 func Build(start time.Time, segs []Segment, noiseW float64, seed uint64) Track {
 	rng := rand.New(rand.NewPCG(seed, seed^0x5eed))
 	var p, hr, cad []float64
 	for _, s := range segs {
-		for range s.Seconds {
+		seg := make([]float64, s.Seconds)
+		for i := range seg {
 			w := s.Watts
-			if !s.Maximal && w > 0 {
-				w = math.Max(0, w+rng.NormFloat64()*noiseW)
+			if w > 0 {
+				if s.Maximal {
+					w += rng.NormFloat64() * 0.02 * s.Watts
+				} else {
+					w = math.Max(0, w+rng.NormFloat64()*noiseW)
+				}
 			}
-			p = append(p, math.Round(w))
-			h := 95 + 0.25*w
-			hr = append(hr, math.Round(math.Min(h, 195)))
+			seg[i] = w
+		}
+		if s.Maximal && s.Seconds > 0 {
+			// pedalling is never perfectly even, but the effort's mean is
+			// the athlete's exact maximal power for its duration
+			mean := 0.0
+			for _, w := range seg {
+				mean += w
+			}
+			shift := s.Watts - mean/float64(len(seg))
+			for i := range seg {
+				seg[i] += shift
+			}
+		}
+		for _, w := range seg {
+			w = math.Round(w)
+			p = append(p, w)
+			hr = append(hr, math.Round(math.Min(95+0.25*w, 195)))
 			c := 0.0
 			if w > 0 {
 				c = math.Round(80 + rng.NormFloat64()*3)

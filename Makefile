@@ -1,0 +1,23 @@
+# sustain: threshold power from ride files. See README.md.
+GO ?= go
+
+.PHONY: build test bench demo fuzz
+
+build:
+	$(GO) build -o bin/sustain ./cmd/sustain
+
+# vet, then every test with the race detector (the scans run in parallel).
+test:
+	$(GO) vet ./...
+	$(GO) test -race -count=1 ./...
+
+bench:
+	$(GO) test -run '^$$' -bench . -benchmem ./...
+
+# an invented season, written to a temporary folder and analysed
+demo:
+	$(GO) run ./cmd/sustain demo
+
+# a short run of each fuzz test (crashers land in the package's testdata/fuzz)
+fuzz:
+	for f in FuzzTCX FuzzCSV FuzzFIT FuzzClean; do $(GO) test ./ingest -run '^$$' -fuzz "^$$f$$" -fuzztime 30s || exit 1; done

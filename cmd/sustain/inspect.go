@@ -1,0 +1,134 @@
+package main
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+	"strings"
+	"text/tabwriter"
+
+	"github.com/sustain-cycling/sustain/ingest"
+	"github.com/urfave/cli/v2"
+)
+
+func inspectCommand() *cli.Command {
+	return &cli.Command{
+		Name:      "inspect",
+		Usage:     "read ride files and report, per ride, what was recorded and what cleaning had to do",
+		ArgsUsage: "PATH...",
+		Flags:     ingestFlags(),
+		Action: func(c *cli.Context) error {
+			res, err := scan(c)
+			if err != nil {
+				return err
+			}
+			if c.Bool("json") {
+				if err := writeJSON(c.App.Writer, inspectJSON(res)); err != nil {
+					return err
+				}
+			} else {
+				renderInspect(c.App.Writer, res)
+			}
+			return nothingRead(res)
+		},
+	}
+}
+
+type rideReport struct {
+	File    string `json:"file"`
+	Session int    `json:"session"`
+	Date    string `json:"date"`
+	Start   string `json:"start"`
+	Sport   string `json:"sport"`
+	ingest.Quality
+}
+
+type inspectOut struct {
+	Rides   int              `json:"rides"`
+	Skipped []ingest.Skipped `json:"skipped"`
+	Quality []rideReport     `json:"quality"`
+}
+
+func inspectJSON(res ingest.Result) inspectOut {
+	out := inspectOut{Rides: len(res.Rides), Skipped: res.Skipped, Quality: []rideReport{}}
+	if out.Skipped == nil {
+		out.Skipped = []ingest.Skipped{}
+	}
+	for _, r := range res.Rides {
+		out.Quality = append(out.Quality, rideReport{
+			File: r.File, Session: r.Session, Date: r.Date(), Start: r.Start.Format("2006-01-02T15:04:05Z07:00"),
+			Sport: r.Sport, Quality: r.Quality,
+		})
+	}
+	return out
+}
+
+func writeJSON(w io.Writer, v any) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(v)
+}
+
+func renderInspect(w io.Writer, res ingest.Result) {
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	if len(res.Rides) > 0 {
+		fmt.Fprintln(tw, "date\tstart\tlength\tpower\tinterval\tgaps\tdropouts\tspikes\tstuck\tsport\tfile\tnotes")
+	}
+	for _, r := range res.Rides {
+		q := r.Quality
+		var notes []string
+		if q.Truncated {
+			notes = append(notes, "cut short (records before the cut kept)")
+		}
+		if q.Salvaged {
+			notes = append(notes, "damaged (salvaged)")
+		}
+		if q.TimeReversals > 0 {
+			notes = append(notes, fmt.Sprintf("time went backwards %d×", q.TimeReversals))
+		}
+		if q.InvalidValues > 0 {
+			notes = append(notes, fmt.Sprintf("%d invalid values", q.InvalidValues))
+		}
+		notes = append(notes, q.Notes...)
+		session := ""
+		if r.Session > 0 {
+			session = fmt.Sprintf(" #%d", r.Session+1)
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%.0f%%\t%gs\t%s\t%s\t%d\t%s\t%s\t%s%s\t%s\n",
+			r.Date(), r.Start.Format("15:04"), clock(q.Seconds), 100*q.PowerCoverage, q.RecordingIntervalS,
+			countSeconds(len(q.Gaps), q.GapSeconds), countSeconds(len(q.Dropouts), q.DropoutSeconds),
+			q.SpikesRemoved, stuckText(q.StuckRuns), r.Sport, r.File, session, strings.Join(notes, "; "))
+	}
+	tw.Flush()
+	if len(res.Rides) > 0 {
+		fmt.Fprintln(w, "gaps: missing runs set to 0 W; dropouts: runs of 5 s or less filled by interpolation; stuck: identical power for 60 s or more (left as is)")
+	}
+	if len(res.Skipped) > 0 {
+		fmt.Fprintln(w)
+	}
+	reportSkipped(w, res.Skipped)
+	fmt.Fprintf(w, "%d rides read, %d files skipped\n", len(res.Rides), len(res.Skipped))
+}
+
+// clock formats seconds as h:mm:ss.
+func clock(s int) string {
+	return fmt.Sprintf("%d:%02d:%02d", s/3600, s/60%60, s%60)
+}
+
+func countSeconds(n, s int) string {
+	if n == 0 {
+		return "-"
+	}
+	return fmt.Sprintf("%d (%ds)", n, s)
+}
+
+func stuckText(runs []ingest.StuckRun) string {
+	if len(runs) == 0 {
+		return "-"
+	}
+	total := 0
+	for _, r := range runs {
+		total += r.Seconds
+	}
+	return fmt.Sprintf("%d (%ds)", len(runs), total)
+}

@@ -1,0 +1,91 @@
+// Command sustain estimates a cyclist's threshold power (critical power and
+// the field rules of thumb) from the ride files they already record, and
+// says how far the data supports each figure.
+//
+// This package parses flags, calls the pipeline packages (ingest,
+// powerduration, estimate) and renders their results; it computes nothing
+// itself.
+package main
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"strings"
+
+	"github.com/urfave/cli/v2"
+)
+
+// Exit statuses of the output contract (../shared/design.md).
+const (
+	exitOK      = 0
+	exitNothing = 1
+	exitUsage   = 2
+)
+
+// usageError marks an error in how the command was called (exit status 2).
+type usageError struct{ msg string }
+
+func (e usageError) Error() string { return e.msg }
+
+func main() {
+	os.Exit(run(os.Args, os.Stdout, os.Stderr))
+}
+
+// run executes the command line and returns the exit status.
+func run(args []string, stdout, stderr io.Writer) int {
+	app := newApp(stdout, stderr)
+	err := app.Run(args)
+	if err == nil {
+		return exitOK
+	}
+	var ec cli.ExitCoder
+	if errors.As(err, &ec) {
+		if msg := err.Error(); msg != "" {
+			fmt.Fprintln(stderr, "sustain:", msg)
+		}
+		return ec.ExitCode()
+	}
+	var ue usageError
+	if errors.As(err, &ue) || isFlagError(err) {
+		fmt.Fprintln(stderr, "sustain:", err)
+		return exitUsage
+	}
+	fmt.Fprintln(stderr, "sustain:", err)
+	return exitNothing
+}
+
+func newApp(stdout, stderr io.Writer) *cli.App {
+	return &cli.App{
+		Name:      "sustain",
+		Usage:     "threshold power (critical power, W′, Pmax) from the ride files you already record",
+		Writer:    stdout,
+		ErrWriter: stderr,
+		// flag errors come back as errors and become exit status 2
+		OnUsageError: func(c *cli.Context, err error, isSub bool) error {
+			return usageError{err.Error()}
+		},
+		ExitErrHandler: func(*cli.Context, error) {},
+		Commands: []*cli.Command{
+			inspectCommand(),
+			demoCommand(),
+		},
+		Action: func(c *cli.Context) error {
+			if c.NArg() > 0 {
+				return usageError{fmt.Sprintf("no command %q; see sustain --help", c.Args().First())}
+			}
+			return cli.ShowAppHelp(c)
+		},
+	}
+}
+
+func isFlagError(err error) bool {
+	msg := err.Error()
+	for _, p := range []string{"flag provided but not defined", "invalid value", "flag needs an argument", "Required flag"} {
+		if strings.Contains(msg, p) {
+			return true
+		}
+	}
+	return false
+}

@@ -1,0 +1,148 @@
+package ingest
+
+import (
+	"math"
+	"reflect"
+	"testing"
+)
+
+// One case per rule of the cleaning policy (../shared/design.md, "Cleaning
+// policy"), with the expected timeline worked out by hand.
+func TestCleanRules(t *testing.T) {
+	nan := math.NaN()
+	type pt = [2]float64 // seconds from start, power
+	cases := []struct {
+		name   string
+		points []pt
+		want   []float64
+		check  func(t *testing.T, q Quality)
+	}{
+		{"rule 1: bins of 1 s from the first sample",
+			[]pt{{0.4, 100}, {1.4, 200}, {2.9, 300}},
+			// origin is floor(0.4) = 0: bins 0, 1, 2
+			[]float64{100, 200, 300}, nil},
+		{"rule 2: several samples in a bin are averaged",
+			[]pt{{0, 100}, {0.25, 200}, {0.5, nan}, {0.75, 300}, {1, 50}},
+			[]float64{200, 50}, nil},
+		{"rule 3: negative, NaN and spikes are missing; spikes counted",
+			[]pt{{0, 100}, {1, -5}, {2, 3000}, {3, 100}, {4, math.Inf(1)}, {5, 100}},
+			// bins 1, 2 and 4 are missing and short: interpolated between 100 and 100
+			[]float64{100, 100, 100, 100, 100, 100},
+			func(t *testing.T, q Quality) {
+				if q.SpikesRemoved != 1 || !reflect.DeepEqual(q.SpikeOffsetsS, []int{2}) || q.InvalidValues != 2 {
+					t.Errorf("spikes %d at %v, invalid %d", q.SpikesRemoved, q.SpikeOffsetsS, q.InvalidValues)
+				}
+			}},
+		{"rule 4: a run of 5 missing seconds is interpolated",
+			[]pt{{0, 100}, {6, 220}},
+			// 100 → 220 over 6 steps of 20 W
+			[]float64{100, 120, 140, 160, 180, 200, 220},
+			func(t *testing.T, q Quality) {
+				if q.DropoutSeconds != 5 || len(q.Dropouts) != 1 || q.Dropouts[0] != (Span{1, 5}) || q.GapSeconds != 0 {
+					t.Errorf("dropouts %v gaps %v", q.Dropouts, q.Gaps)
+				}
+				if math.Abs(q.PowerCoverage-2.0/7) > 1e-12 {
+					t.Errorf("coverage %v, want 2/7", q.PowerCoverage)
+				}
+			}},
+		{"rule 4: a run of 6 missing seconds is 0 W and a gap",
+			[]pt{{0, 100}, {7, 220}},
+			[]float64{100, 0, 0, 0, 0, 0, 0, 220},
+			func(t *testing.T, q Quality) {
+				if q.GapSeconds != 6 || len(q.Gaps) != 1 || q.Gaps[0] != (Span{1, 6}) || q.DropoutSeconds != 0 {
+					t.Errorf("dropouts %v gaps %v", q.Dropouts, q.Gaps)
+				}
+			}},
+		{"rule 4: missing at the ends is never interpolated",
+			[]pt{{0, nan}, {1, 100}, {2, 110}, {3, nan}},
+			[]float64{0, 100, 110, 0},
+			func(t *testing.T, q Quality) {
+				if len(q.Gaps) != 2 || q.GapSeconds != 2 {
+					t.Errorf("gaps %v", q.Gaps)
+				}
+			}},
+		{"rule 5: 60 s of identical power is a stuck run, left as it is",
+			append([]pt{{0, 150}}, stuck(1, 60, 240)...),
+			append([]float64{150}, repeat(240, 60)...),
+			func(t *testing.T, q Quality) {
+				if len(q.StuckRuns) != 1 || q.StuckRuns[0] != (StuckRun{Span{1, 60}, 240}) {
+					t.Errorf("stuck %v", q.StuckRuns)
+				}
+			}},
+		{"rule 5: 59 s is not stuck, nor is 0 W",
+			append(stuck(0, 59, 240), stuck(59, 100, 0)...),
+			append(repeat(240, 59), repeat(0, 100)...),
+			func(t *testing.T, q Quality) {
+				if len(q.StuckRuns) != 0 {
+					t.Errorf("stuck %v", q.StuckRuns)
+				}
+			}},
+		{"time going backwards lands in its own bin and is counted",
+			[]pt{{0, 100}, {2, 300}, {1, 200}},
+			[]float64{100, 200, 300},
+			func(t *testing.T, q Quality) {
+				if q.TimeReversals != 1 {
+					t.Errorf("reversals %d", q.TimeReversals)
+				}
+			}},
+		{"recording interval is the usual step",
+			[]pt{{0, 100}, {2, 100}, {4, 100}, {6, 100}, {7, 100}},
+			repeat(100, 8),
+			func(t *testing.T, q Quality) {
+				if q.RecordingIntervalS != 2 {
+					t.Errorf("interval %v", q.RecordingIntervalS)
+				}
+			}},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			const t0 = 1.7e9
+			var samples []Sample
+			for _, p := range c.points {
+				samples = append(samples, Sample{UnixS: t0 + p[0], Power: p[1], HeartRate: nan, Cadence: nan})
+			}
+			r, err := Clean(samples, 0, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if len(r.PowerW) != len(c.want) {
+				t.Fatalf("got %v, want %v", r.PowerW, c.want)
+			}
+			for i := range c.want {
+				if math.Abs(r.PowerW[i]-c.want[i]) > 1e-9 {
+					t.Fatalf("got %v, want %v", r.PowerW, c.want)
+				}
+			}
+			if c.check != nil {
+				c.check(t, r.Quality)
+			}
+		})
+	}
+}
+
+func TestCleanSpikeCeilingOption(t *testing.T) {
+	s := []Sample{{UnixS: 0, Power: 1200}, {UnixS: 1, Power: 900}}
+	r, err := Clean(s, 1000, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Quality.SpikesRemoved != 1 || r.PowerW[0] != 0 {
+		t.Errorf("ceiling 1000 W: %v %+v", r.PowerW, r.Quality)
+	}
+}
+
+func stuck(from, n int, w float64) [][2]float64 {
+	var out [][2]float64
+	for i := range n {
+		out = append(out, [2]float64{float64(from + i), w})
+	}
+	return out
+}
+
+func repeat(w float64, n int) []float64 {
+	out := make([]float64, n)
+	for i := range out {
+		out[i] = w
+	}
+	return out
+}
