@@ -1,0 +1,221 @@
+// Package powerduration builds mean-maximal power (MMP) curves: for each
+// duration d, the highest mean power over any d consecutive seconds of a
+// ride. A ride's curve is the raw material of every power-duration model;
+// the best-of curve over a date window (pointwise maximum of the rides'
+// curves) is what the models are fitted to.
+//
+// Every point keeps its provenance: the file, the ride's date and start,
+// and the offset of the window's start within the ride, so any figure can
+// be traced to the ride and second it came from.
+//
+// Curves share one grid of durations: every whole second from 1 s to 1 h,
+// then a log-spaced grid (twenty steps a decade) that also holds 5400,
+// 7200, 10800, 14400, 18000 and 21600 s, up to the ride's length. Because
+// the grid is shared, merging by pointwise maximum is exact, associative
+// and commutative: per-ride curves can be computed anywhere and reduced
+// later.
+package powerduration
+
+import (
+	"math"
+	"math/bits"
+	"slices"
+	"time"
+
+	"github.com/sustain-cycling/sustain/ingest"
+)
+
+// Point is the best mean power for one duration, and where it was ridden.
+type Point struct {
+	DurationS int       `json:"duration_s"`
+	Watts     float64   `json:"watts"`
+	File      string    `json:"file"`
+	Date      string    `json:"date"` // YYYY-MM-DD, the ride's local date
+	OffsetS   int       `json:"offset_s"`
+	Session   int       `json:"session,omitempty"`
+	RideStart time.Time `json:"ride_start"`
+}
+
+// Same reports whether two points come from the same window of the same ride.
+func (p Point) Same(q Point) bool {
+	return p.File == q.File && p.Session == q.Session && p.RideStart.Equal(q.RideStart)
+}
+
+// Curve is a mean-maximal power curve, points in ascending duration. The
+// curve of one ride has File and Start set; a merged curve has neither.
+type Curve struct {
+	File   string    `json:"file,omitempty"`
+	Start  time.Time `json:"start,omitzero"`
+	Points []Point   `json:"points"`
+}
+
+// MaxGridS is the longest duration on the grid (48 h, the longest timeline).
+const MaxGridS = ingest.MaxTimelineS
+
+var longGrid = func() []int {
+	set := map[int]bool{5400: true, 7200: true, 10800: true, 14400: true, 18000: true, 21600: true}
+	for k := 1; ; k++ {
+		d := int(math.Round(3600 * math.Pow(10, float64(k)/20)))
+		if d > MaxGridS {
+			break
+		}
+		set[d] = true
+	}
+	var g []int
+	for d := range set {
+		g = append(g, d)
+	}
+	slices.Sort(g)
+	return g
+}()
+
+// Durations returns the grid of durations for a ride of length seconds.
+func Durations(length int) []int {
+	var ds []int
+	for d := 1; d <= min(length, 3600); d++ {
+		ds = append(ds, d)
+	}
+	for _, d := range longGrid {
+		if d > length {
+			break
+		}
+		ds = append(ds, d)
+	}
+	return ds
+}
+
+// At returns the point for duration d, if the curve has it.
+func (c Curve) At(d int) (Point, bool) {
+	i, ok := slices.BinarySearchFunc(c.Points, d, func(p Point, d int) int { return p.DurationS - d })
+	if !ok {
+		return Point{}, false
+	}
+	return c.Points[i], true
+}
+
+// OfRide computes the ride's curve over the shared grid of durations.
+func OfRide(r *ingest.Ride) Curve {
+	best := MeanMax(r.PowerW, Durations(len(r.PowerW)))
+	c := Curve{File: r.File, Start: r.Start, Points: make([]Point, len(best))}
+	date := r.Date()
+	for i, b := range best {
+		c.Points[i] = Point{DurationS: b.DurationS, Watts: b.Watts, File: r.File, Date: date,
+			OffsetS: b.OffsetS, Session: r.Session, RideStart: r.Start}
+	}
+	return c
+}
+
+// Best is the highest mean power for a duration and the offset of the
+// earliest window found with it.
+type Best struct {
+	DurationS int
+	Watts     float64
+	OffsetS   int
+}
+
+// MeanMax returns, for each duration in ds (ascending, each at most
+// len(power)), the highest mean of any window of that many consecutive
+// values. Power must be non-negative.
+//
+// It is exact (equal to a scan of every window) but skips most windows: the
+// starts are taken in blocks, and a block is skipped when no window starting
+// in it can beat the best so far; a block that cannot be skipped is split
+// into smaller blocks, down to a few starts scanned one by one. Power is never negative, so the sum of a
+// window is at most the sum over the union of the block's windows, and at
+// most d times the highest value in that union (a range-maximum table
+// answers that in constant time). Each duration's best is seeded from the
+// previous duration's window, which is usually close.
+func MeanMax(power []float64, ds []int) []Best {
+	n := len(power)
+	out := make([]Best, 0, len(ds))
+	if n == 0 {
+		return out
+	}
+	sum := make([]float64, n+1)
+	for i, p := range power {
+		sum[i+1] = sum[i] + p
+	}
+	rmq := newRangeMax(power)
+	prevStart := 0
+	for _, d := range ds {
+		if d < 1 || d > n {
+			continue
+		}
+		// seed: the previous best window, grown to d (kept inside the ride)
+		s0 := min(prevStart, n-d)
+		sc := scanner{sum: sum, rmq: rmq, d: d, lastStart: n - d, bestSum: sum[s0+d] - sum[s0], bestStart: s0}
+		for a := 0; a <= n-d; a += topBlock {
+			sc.block(a, topBlock)
+		}
+		out = append(out, Best{DurationS: d, Watts: sc.bestSum / float64(d), OffsetS: sc.bestStart})
+		prevStart = sc.bestStart
+	}
+	return out
+}
+
+// Block sizes: starts are taken in blocks of topBlock; a block that cannot
+// be skipped is split into blocks a split-th the size, down to leafBlock,
+// whose starts are scanned one by one.
+const (
+	topBlock  = 512
+	split     = 4
+	leafBlock = 8
+)
+
+type scanner struct {
+	sum          []float64 // prefix sums
+	rmq          rangeMax
+	d, lastStart int
+	bestSum      float64
+	bestStart    int
+}
+
+// block considers the starts [a, a+size) (clipped to the last start).
+func (sc *scanner) block(a, size int) {
+	last := min(a+size-1, sc.lastStart)
+	hi := last + sc.d // the block's windows all lie in [a, hi)
+	bound := sc.sum[hi] - sc.sum[a]
+	if m := float64(sc.d) * sc.rmq.max(a, hi); m < bound {
+		bound = m
+	}
+	if bound < sc.bestSum || (bound == sc.bestSum && a > sc.bestStart) {
+		return
+	}
+	if size > leafBlock {
+		sub := size / split
+		for b := a; b <= last; b += sub {
+			sc.block(b, sub)
+		}
+		return
+	}
+	for s := a; s <= last; s++ {
+		v := sc.sum[s+sc.d] - sc.sum[s]
+		if v > sc.bestSum || (v == sc.bestSum && s < sc.bestStart) {
+			sc.bestSum, sc.bestStart = v, s
+		}
+	}
+}
+
+// rangeMax answers "highest value in [a, b)" in constant time (a sparse table).
+type rangeMax struct {
+	levels [][]float64
+}
+
+func newRangeMax(v []float64) rangeMax {
+	levels := [][]float64{v}
+	for k := 1; 1<<k <= len(v); k++ {
+		prev := levels[k-1]
+		half := 1 << (k - 1)
+		cur := make([]float64, len(v)-(1<<k)+1)
+		for i := range cur {
+			cur[i] = max(prev[i], prev[i+half])
+		}
+		levels = append(levels, cur)
+	}
+	return rangeMax{levels}
+}
+
+func (r rangeMax) max(a, b int) float64 {
+	k := bits.Len(uint(b-a)) - 1
+	return max(r.levels[k][a], r.levels[k][b-(1<<k)])
+}

@@ -1,0 +1,255 @@
+package powerduration
+
+import (
+	"math"
+	"math/rand/v2"
+	"os/exec"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/sustain-cycling/sustain/ingest"
+)
+
+// bruteForce is the oracle: every window of every duration. A running sum
+// finds the candidates; each window within a hair of the best is then
+// summed directly, so rounding in the running sum cannot pick the winner.
+func bruteForce(power []float64, ds []int) []Best {
+	var out []Best
+	for _, d := range ds {
+		run := 0.0
+		for _, p := range power[:d] {
+			run += p
+		}
+		sums := []float64{run}
+		for s := 1; s+d <= len(power); s++ {
+			run += power[s+d-1] - power[s-1]
+			sums = append(sums, run)
+		}
+		top := sums[0]
+		for _, v := range sums {
+			top = math.Max(top, v)
+		}
+		best, at := -1.0, 0
+		for s, v := range sums {
+			if v >= top-1e-6*math.Max(1, top) {
+				if m := windowMean(power, s, d); m > best {
+					best, at = m, s
+				}
+			}
+		}
+		out = append(out, Best{d, best, at})
+	}
+	return out
+}
+
+func windowMean(power []float64, start, d int) float64 {
+	sum := 0.0
+	for _, p := range power[start : start+d] {
+		sum += p
+	}
+	return sum / float64(d)
+}
+
+func checkAgainstOracle(t *testing.T, name string, power []float64) {
+	t.Helper()
+	ds := Durations(len(power))
+	got := MeanMax(power, ds)
+	want := bruteForce(power, ds)
+	if len(got) != len(want) {
+		t.Fatalf("%s: %d points, want %d", name, len(got), len(want))
+	}
+	for i := range want {
+		g, w := got[i], want[i]
+		if g.DurationS != w.DurationS || math.Abs(g.Watts-w.Watts) > 1e-9 {
+			t.Fatalf("%s: %d s: %.12f W, brute force %.12f W", name, w.DurationS, g.Watts, w.Watts)
+		}
+		// provenance: the reported window really has that mean
+		if m := windowMean(power, g.OffsetS, g.DurationS); math.Abs(m-g.Watts) > 1e-9 {
+			t.Fatalf("%s: %d s at offset %d has mean %.12f, reported %.12f", name, g.DurationS, g.OffsetS, m, g.Watts)
+		}
+	}
+}
+
+func TestMeanMaxMatchesBruteForce(t *testing.T) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	random := func(n int, f func(i int) float64) []float64 {
+		p := make([]float64, n)
+		for i := range p {
+			p[i] = f(i)
+		}
+		return p
+	}
+	cases := map[string][]float64{
+		"length 1":      {250},
+		"all zero":      make([]float64, 500),
+		"constant":      random(1500, func(int) float64 { return 200 }),
+		"trainer steps": random(4000, func(i int) float64 { return float64(150 + 25*(i/300)) }),
+		"noise":         random(3000, func(int) float64 { return math.Max(0, 220+rng.NormFloat64()*60) }),
+		"gaps":          random(3700, func(i int) float64 { return float64((i/200)%2) * (180 + rng.Float64()*200) }),
+		"sprint and fractional": random(2500, func(i int) float64 {
+			if i > 1200 && i < 1215 {
+				return 1100.25
+			}
+			return 100 + rng.Float64()*150
+		}),
+		"decreasing": random(1000, func(i int) float64 { return float64(1000 - i) }),
+	}
+	for name, p := range cases {
+		checkAgainstOracle(t, name, p)
+	}
+	for k := range 20 {
+		n := 1 + rng.IntN(900)
+		checkAgainstOracle(t, "random", random(n, func(int) float64 { return float64(rng.IntN(600)) }))
+		_ = k
+	}
+}
+
+// Tiny curves worked by hand.
+func TestMeanMaxByHand(t *testing.T) {
+	// power 100, 300, 200, 0, 400
+	// 1 s: 400 at 4; 2 s: (300+200)/2 = 250 at 1; 3 s: (100+300+200)/3 = 200 at 0
+	// 4 s: (300+200+0+400)/4 = 225 at 1; 5 s: 1000/5 = 200 at 0
+	got := MeanMax([]float64{100, 300, 200, 0, 400}, []int{1, 2, 3, 4, 5})
+	want := []Best{{1, 400, 4}, {2, 250, 1}, {3, 200, 0}, {4, 225, 1}, {5, 200, 0}}
+	for i := range want {
+		if got[i] != want[i] {
+			t.Errorf("got %+v, want %+v", got[i], want[i])
+		}
+	}
+}
+
+func TestDurationsGrid(t *testing.T) {
+	ds := Durations(6 * 3600)
+	if ds[0] != 1 || ds[3599] != 3600 {
+		t.Fatalf("first hour not every second")
+	}
+	for _, want := range []int{5400, 7200, 10800, 14400, 18000, 21600} {
+		found := false
+		for _, d := range ds {
+			found = found || d == want
+		}
+		if !found {
+			t.Errorf("grid lacks %d s", want)
+		}
+	}
+	if ds[len(ds)-1] != 21600 {
+		t.Errorf("grid ends at %d", ds[len(ds)-1])
+	}
+	for i := 1; i < len(ds); i++ {
+		if ds[i] <= ds[i-1] {
+			t.Fatalf("grid not ascending at %d", i)
+		}
+	}
+	if got := Durations(90); len(got) != 90 {
+		t.Errorf("90-s ride: %d durations", len(got))
+	}
+}
+
+// Real device files from the FIT module's testdata, against the oracle.
+func TestDeviceFilesAgainstOracle(t *testing.T) {
+	out, err := exec.Command("go", "list", "-m", "-f", "{{.Dir}}", "github.com/tormoder/fit").Output()
+	if err != nil {
+		t.Skip("FIT module not found")
+	}
+	dir := filepath.Join(strings.TrimSpace(string(out)), "testdata")
+	for _, name := range []string{"dcrainmaker/Edge810-Vector-2013-08-16-15-35-10.fit", "misc/0134902991.fit", "python-fitparse/sample-activity-indoor-trainer.fit"} {
+		rides, err := ingest.ReadFile(filepath.Join(dir, name), ingest.Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		r := rides[0]
+		checkAgainstOracle(t, name, r.PowerW)
+		c := OfRide(&r)
+		p, _ := c.At(60)
+		if p.File != r.File || p.Date != r.Date() || p.DurationS != 60 {
+			t.Errorf("%s: provenance %+v", name, p)
+		}
+	}
+}
+
+func point(d int, w float64, file string, day int) Point {
+	start := time.Date(2026, 1, day, 9, 0, 0, 0, time.UTC)
+	return Point{DurationS: d, Watts: w, File: file, Date: start.Format("2006-01-02"), RideStart: start}
+}
+
+func randomCurve(rng *rand.Rand, file string) Curve {
+	var c Curve
+	day := 1 + rng.IntN(28)
+	n := 1 + rng.IntN(30)
+	for d := 1; d <= n; d++ {
+		c.Points = append(c.Points, point(d, float64(rng.IntN(5)*50), file, day))
+	}
+	return c
+}
+
+func equalCurves(a, b Curve) bool {
+	if len(a.Points) != len(b.Points) {
+		return false
+	}
+	for i := range a.Points {
+		if a.Points[i] != b.Points[i] {
+			return false
+		}
+	}
+	return true
+}
+
+// Merge is a pointwise maximum: commutative, associative, idempotent.
+func TestMergeLaws(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	for range 500 {
+		a, b, c := randomCurve(rng, "a.fit"), randomCurve(rng, "b.fit"), randomCurve(rng, "c.fit")
+		if !equalCurves(Merge(a, b), Merge(b, a)) {
+			t.Fatal("merge is not commutative")
+		}
+		if !equalCurves(Merge(Merge(a, b), c), Merge(a, Merge(b, c))) {
+			t.Fatal("merge is not associative")
+		}
+		if !equalCurves(Merge(a, a), Merge(a, Curve{})) {
+			t.Fatal("merge is not idempotent")
+		}
+		m := Merge(a, b)
+		for _, p := range m.Points {
+			pa, okA := a.At(p.DurationS)
+			pb, okB := b.At(p.DurationS)
+			if (okA && pa.Watts > p.Watts) || (okB && pb.Watts > p.Watts) {
+				t.Fatal("merged point is below a source")
+			}
+			if !(okA && pa == p) && !(okB && pb == p) {
+				t.Fatal("merged point has no source")
+			}
+		}
+	}
+}
+
+func TestWindows(t *testing.T) {
+	mk := func(day int) Curve {
+		return Curve{Start: time.Date(2026, 3, day, 10, 0, 0, 0, time.UTC), Points: []Point{point(1, float64(day), "x", day)}}
+	}
+	curves := []Curve{mk(1), mk(10), mk(20), mk(31)}
+	if got := Newest(curves); got != "2026-03-31" {
+		t.Fatalf("newest %s", got)
+	}
+	w := LastDays("2026-03-31", 12) // 2026-03-20 … 2026-03-31
+	if w.From != "2026-03-20" {
+		t.Errorf("from %s", w.From)
+	}
+	if got := InWindow(curves, w); len(got) != 2 {
+		t.Errorf("%d curves in %v", len(got), w)
+	}
+	if got := InWindow(curves, Window{From: "2026-03-10", To: "2026-03-10"}); len(got) != 1 {
+		t.Errorf("one-day window: %d", len(got))
+	}
+	for in, want := range map[string]int{"90d": 90, "6w": 42, "42": 42} {
+		if got, err := ParseDays(in); err != nil || got != want {
+			t.Errorf("ParseDays(%q) = %d, %v", in, got, err)
+		}
+	}
+	for _, bad := range []string{"", "0d", "-3d", "x", "3.5d"} {
+		if _, err := ParseDays(bad); err == nil {
+			t.Errorf("ParseDays(%q) accepted", bad)
+		}
+	}
+}

@@ -1,0 +1,135 @@
+package powerduration
+
+import (
+	"fmt"
+	"strings"
+	"time"
+)
+
+// better reports whether p beats q for the same duration: higher watts; on
+// a tie the earlier ride, then the smaller file name, session and offset.
+// It is a strict total order on points, so Merge is commutative and
+// associative.
+func better(p, q Point) bool {
+	if p.Watts != q.Watts {
+		return p.Watts > q.Watts
+	}
+	if !p.RideStart.Equal(q.RideStart) {
+		return p.RideStart.Before(q.RideStart)
+	}
+	if p.File != q.File {
+		return p.File < q.File
+	}
+	if p.Session != q.Session {
+		return p.Session < q.Session
+	}
+	return p.OffsetS < q.OffsetS
+}
+
+// Merge returns the pointwise best of two curves, each point keeping its
+// source. The result is a merged curve (no File or Start).
+func Merge(a, b Curve) Curve {
+	out := Curve{Points: make([]Point, 0, max(len(a.Points), len(b.Points)))}
+	i, j := 0, 0
+	for i < len(a.Points) || j < len(b.Points) {
+		switch {
+		case j == len(b.Points) || (i < len(a.Points) && a.Points[i].DurationS < b.Points[j].DurationS):
+			out.Points = append(out.Points, a.Points[i])
+			i++
+		case i == len(a.Points) || b.Points[j].DurationS < a.Points[i].DurationS:
+			out.Points = append(out.Points, b.Points[j])
+			j++
+		default:
+			p := a.Points[i]
+			if better(b.Points[j], p) {
+				p = b.Points[j]
+			}
+			out.Points = append(out.Points, p)
+			i++
+			j++
+		}
+	}
+	return out
+}
+
+// BestOf merges any number of curves.
+func BestOf(curves []Curve) Curve {
+	var out Curve
+	for _, c := range curves {
+		out = Merge(out, c)
+	}
+	if out.Points == nil {
+		out.Points = []Point{}
+	}
+	return out
+}
+
+// Window is a range of ride dates, both ends included, as YYYY-MM-DD.
+// An empty end is open.
+type Window struct {
+	From string `json:"from"`
+	To   string `json:"to"`
+}
+
+// Contains reports whether a ride date (YYYY-MM-DD) lies in the window.
+func (w Window) Contains(date string) bool {
+	return (w.From == "" || date >= w.From) && (w.To == "" || date <= w.To)
+}
+
+// ParseDate checks a YYYY-MM-DD date.
+func ParseDate(s string) (time.Time, error) {
+	t, err := time.Parse("2006-01-02", s)
+	if err != nil {
+		return t, fmt.Errorf("date %q is not YYYY-MM-DD", s)
+	}
+	return t, nil
+}
+
+// ParseDays reads a span such as "90d", "6w" or "42" (days).
+func ParseDays(s string) (int, error) {
+	s = strings.TrimSpace(strings.ToLower(s))
+	mult := 1
+	switch {
+	case strings.HasSuffix(s, "d"):
+		s = strings.TrimSuffix(s, "d")
+	case strings.HasSuffix(s, "w"):
+		s, mult = strings.TrimSuffix(s, "w"), 7
+	}
+	var n int
+	if _, err := fmt.Sscanf(s, "%d", &n); err != nil || n <= 0 || fmt.Sprint(n) != s {
+		return 0, fmt.Errorf("span %q is not a number of days (90d) or weeks (6w)", s)
+	}
+	return n * mult, nil
+}
+
+// LastDays is the window of the given number of days ending on date end
+// (YYYY-MM-DD), end included.
+func LastDays(end string, days int) Window {
+	t, err := ParseDate(end)
+	if err != nil {
+		return Window{To: end}
+	}
+	return Window{From: t.AddDate(0, 0, -(days - 1)).Format("2006-01-02"), To: end}
+}
+
+// InWindow keeps the curves of rides whose date lies in w.
+func InWindow(curves []Curve, w Window) []Curve {
+	var out []Curve
+	for _, c := range curves {
+		if w.Contains(c.Start.Format("2006-01-02")) {
+			out = append(out, c)
+		}
+	}
+	return out
+}
+
+// Newest returns the date of the latest ride among the curves, or "".
+func Newest(curves []Curve) string {
+	newest := ""
+	for _, c := range curves {
+		if d := c.Start.Format("2006-01-02"); d > newest {
+			newest = d
+		}
+	}
+	return newest
+}
