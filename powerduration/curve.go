@@ -17,9 +17,12 @@
 package powerduration
 
 import (
+	"fmt"
 	"math"
 	"math/bits"
+	"runtime"
 	"slices"
+	"sync"
 	"time"
 
 	"github.com/sustain-cycling/sustain/ingest"
@@ -218,4 +221,71 @@ func newRangeMax(v []float64) rangeMax {
 func (r rangeMax) max(a, b int) float64 {
 	k := bits.Len(uint(b-a)) - 1
 	return max(r.levels[k][a], r.levels[k][b-(1<<k)])
+}
+
+// OfRides computes the curve of every ride, on up to workers goroutines
+// (workers <= 0: one per CPU). The result is in the rides' order.
+func OfRides(rides []ingest.Ride, workers int) []Curve {
+	if workers <= 0 {
+		workers = runtime.NumCPU()
+	}
+	out := make([]Curve, len(rides))
+	var wg sync.WaitGroup
+	next := make(chan int)
+	for range min(workers, max(len(rides), 1)) {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range next {
+				out[i] = OfRide(&rides[i])
+			}
+		}()
+	}
+	for i := range rides {
+		next <- i
+	}
+	close(next)
+	wg.Wait()
+	return out
+}
+
+// KeyDurations are the durations a rider or coach reads first: 1, 5, 15 and
+// 30 s; 1, 2, 3, 5, 8, 10, 12, 20, 30 and 60 min; then 90 min and 2 to 6 h.
+var KeyDurations = []int{1, 5, 15, 30, 60, 120, 180, 300, 480, 600, 720, 1200, 1800, 3600, 5400, 7200, 10800, 14400, 18000, 21600}
+
+// Compact is a ride's curve in columns, as one line of JSON: the map step
+// of a batch computation (see Expand).
+type Compact struct {
+	File      string    `json:"file"`
+	Session   int       `json:"session"`
+	Date      string    `json:"date"`
+	RideStart time.Time `json:"ride_start"`
+	DurationS []int     `json:"duration_s"`
+	Watts     []float64 `json:"watts"`
+	OffsetS   []int     `json:"offset_s"`
+}
+
+// Compacted returns a ride's curve in columns.
+func (c Curve) Compacted() Compact {
+	k := Compact{File: c.File, RideStart: c.Start, Date: c.Start.Format("2006-01-02")}
+	for _, p := range c.Points {
+		k.Session = p.Session
+		k.DurationS = append(k.DurationS, p.DurationS)
+		k.Watts = append(k.Watts, p.Watts)
+		k.OffsetS = append(k.OffsetS, p.OffsetS)
+	}
+	return k
+}
+
+// Expand turns a compact curve back into a ride's curve.
+func (k Compact) Expand() (Curve, error) {
+	if len(k.Watts) != len(k.DurationS) || len(k.OffsetS) != len(k.DurationS) {
+		return Curve{}, fmt.Errorf("%s: curve columns differ in length", k.File)
+	}
+	c := Curve{File: k.File, Start: k.RideStart, Points: make([]Point, len(k.DurationS))}
+	for i := range k.DurationS {
+		c.Points[i] = Point{DurationS: k.DurationS[i], Watts: k.Watts[i], File: k.File, Date: k.Date,
+			OffsetS: k.OffsetS[i], Session: k.Session, RideStart: k.RideStart}
+	}
+	return c, nil
 }

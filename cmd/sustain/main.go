@@ -36,7 +36,7 @@ func main() {
 // run executes the command line and returns the exit status.
 func run(args []string, stdout, stderr io.Writer) int {
 	app := newApp(stdout, stderr)
-	err := app.Run(args)
+	err := app.Run(interspersed(app, args))
 	if err == nil {
 		return exitOK
 	}
@@ -69,6 +69,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 		ExitErrHandler: func(*cli.Context, error) {},
 		Commands: []*cli.Command{
 			inspectCommand(),
+			curveCommand(),
 			demoCommand(),
 		},
 		Action: func(c *cli.Context) error {
@@ -88,4 +89,56 @@ func isFlagError(err error) bool {
 		}
 	}
 	return false
+}
+
+// interspersed moves a command's flags before its paths, so that
+// "sustain curve rides/ --json" reads like "sustain curve --json rides/"
+// (the flag parser stops at the first path). Everything after "--" stays a path.
+func interspersed(app *cli.App, args []string) []string {
+	if len(args) < 2 {
+		return args
+	}
+	var cmd *cli.Command
+	at := 1
+	for ; at < len(args); at++ {
+		if !strings.HasPrefix(args[at], "-") {
+			cmd = app.Command(args[at])
+			break
+		}
+	}
+	if cmd == nil {
+		return args
+	}
+	takesValue := map[string]bool{}
+	for _, f := range cmd.Flags {
+		_, isBool := f.(*cli.BoolFlag)
+		for _, n := range f.Names() {
+			takesValue[n] = !isBool
+		}
+	}
+	out := append([]string{}, args[:at+1]...)
+	var paths []string
+	rest := args[at+1:]
+	for i := 0; i < len(rest); i++ {
+		a := rest[i]
+		if a == "--" {
+			paths = append(paths, rest[i+1:]...)
+			break
+		}
+		if !strings.HasPrefix(a, "-") || a == "-" {
+			paths = append(paths, a)
+			continue
+		}
+		out = append(out, a)
+		name := strings.TrimLeft(a, "-")
+		if !strings.Contains(name, "=") && takesValue[name] && i+1 < len(rest) {
+			out = append(out, rest[i+1])
+			i++
+		}
+	}
+	if len(paths) > 0 {
+		out = append(out, "--")
+		out = append(out, paths...)
+	}
+	return out
 }

@@ -1,0 +1,289 @@
+package main
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"text/tabwriter"
+
+	"github.com/sustain-cycling/sustain/ingest"
+	"github.com/sustain-cycling/sustain/powerduration"
+	"github.com/urfave/cli/v2"
+)
+
+// windowFlags select rides by date.
+func windowFlags() []cli.Flag {
+	return []cli.Flag{
+		&cli.StringFlag{Name: "from", Usage: "first ride date to use, YYYY-MM-DD"},
+		&cli.StringFlag{Name: "to", Usage: "last ride date to use, YYYY-MM-DD"},
+		&cli.StringFlag{Name: "last", Usage: "use the span ending at the newest ride, e.g. 90d or 6w"},
+	}
+}
+
+// window reads --from/--to/--last; newest is the newest ride's date.
+func window(c *cli.Context, newest, defaultLast string) (powerduration.Window, error) {
+	w := powerduration.Window{From: c.String("from"), To: c.String("to")}
+	for _, d := range []string{w.From, w.To} {
+		if d != "" {
+			if _, err := powerduration.ParseDate(d); err != nil {
+				return w, usageError{err.Error()}
+			}
+		}
+	}
+	last := c.String("last")
+	if last != "" && (w.From != "" || w.To != "") {
+		return w, usageError{"--last goes without --from and --to"}
+	}
+	if last == "" && w.From == "" && w.To == "" {
+		last = defaultLast
+	}
+	if last != "" {
+		days, err := powerduration.ParseDays(last)
+		if err != nil {
+			return w, usageError{err.Error()}
+		}
+		w = powerduration.LastDays(newest, days)
+	}
+	if w.From != "" && w.To != "" && w.From > w.To {
+		return w, usageError{fmt.Sprintf("--from %s is after --to %s", w.From, w.To)}
+	}
+	return w, nil
+}
+
+func curveCommand() *cli.Command {
+	flags := append(ingestFlags(), windowFlags()...)
+	flags = append(flags,
+		&cli.BoolFlag{Name: "csv", Usage: "print one CSV row per point of the curve"},
+		&cli.BoolFlag{Name: "per-ride", Usage: "print each ride's curve as one line of JSON (the map step of a batch job)"},
+		&cli.Float64Flag{Name: "mass", Usage: "rider mass in kg, to add W/kg"},
+		&cli.StringFlag{Name: "plot", Usage: "write the curve to FILE.png or FILE.svg"},
+		&cli.StringFlag{Name: "compare-from", Usage: "first date of a second window to compare with (before/after a block)"},
+		&cli.StringFlag{Name: "compare-to", Usage: "last date of the compared window"},
+	)
+	return &cli.Command{
+		Name:      "curve",
+		Usage:     "best mean power for every duration (mean-maximal power), and where each was ridden",
+		ArgsUsage: "PATH...",
+		Flags:     flags,
+		Action:    curveAction,
+	}
+}
+
+type curveOut struct {
+	Window  powerduration.Window  `json:"window"`
+	Rides   int                   `json:"rides"`
+	Skipped []ingest.Skipped      `json:"skipped"`
+	MassKG  float64               `json:"mass_kg,omitempty"`
+	Points  []powerduration.Point `json:"points"`
+	Compare *compareOut           `json:"compare,omitempty"`
+}
+
+type compareOut struct {
+	Window powerduration.Window  `json:"window"`
+	Rides  int                   `json:"rides"`
+	Points []powerduration.Point `json:"points"`
+}
+
+func curveAction(c *cli.Context) error {
+	if n := countTrue(c.Bool("json"), c.Bool("csv"), c.Bool("per-ride")); n > 1 {
+		return usageError{"choose one of --json, --csv and --per-ride"}
+	}
+	if c.Float64("mass") < 0 || (c.IsSet("mass") && c.Float64("mass") == 0) {
+		return usageError{"--mass must be above 0 kg"}
+	}
+	if p := c.String("plot"); p != "" && !isPlotName(p) {
+		return usageError{"--plot takes a file name ending in .png or .svg"}
+	}
+	res, err := scan(c)
+	if err != nil {
+		return err
+	}
+	w := c.App.Writer
+	curves := powerduration.OfRides(res.Rides, c.Int("workers"))
+	if c.Bool("per-ride") {
+		enc := json.NewEncoder(w)
+		for _, cv := range curves {
+			if err := enc.Encode(cv.Compacted()); err != nil {
+				return err
+			}
+		}
+		reportSkipped(c.App.ErrWriter, res.Skipped)
+		return nothingRead(res)
+	}
+	win, err := window(c, powerduration.Newest(curves), "")
+	if err != nil {
+		return err
+	}
+	inWin := powerduration.InWindow(curves, win)
+	out := curveOut{Window: win, Rides: len(inWin), Skipped: nonNil(res.Skipped), MassKG: c.Float64("mass"),
+		Points: powerduration.BestOf(inWin).Points}
+	if cf, ct := c.String("compare-from"), c.String("compare-to"); cf != "" || ct != "" {
+		cw := powerduration.Window{From: cf, To: ct}
+		for _, d := range []string{cf, ct} {
+			if _, err := powerduration.ParseDate(d); d != "" && err != nil {
+				return usageError{err.Error()}
+			}
+		}
+		cc := powerduration.InWindow(curves, cw)
+		out.Compare = &compareOut{Window: cw, Rides: len(cc), Points: powerduration.BestOf(cc).Points}
+	}
+	switch {
+	case c.Bool("json"):
+		err = writeJSON(w, out)
+	case c.Bool("csv"):
+		err = writeCurveCSV(w, out)
+	default:
+		renderCurve(w, out, c.Args().Slice())
+	}
+	if err != nil {
+		return err
+	}
+	if p := c.String("plot"); p != "" && len(out.Points) > 0 {
+		if err := plotCurves(p, out, curveTitle(c.Args().Slice(), out)); err != nil {
+			return fmt.Errorf("plot %s: %w", p, err)
+		}
+		if !c.Bool("json") && !c.Bool("csv") {
+			fmt.Fprintf(w, "plot written to %s\n", p)
+		}
+	}
+	if len(res.Rides) > 0 && out.Rides == 0 {
+		return cli.Exit(fmt.Sprintf("no ride between %s and %s", orOpen(win.From), orOpen(win.To)), exitNothing)
+	}
+	return nothingRead(res)
+}
+
+func countTrue(bs ...bool) int {
+	n := 0
+	for _, b := range bs {
+		if b {
+			n++
+		}
+	}
+	return n
+}
+
+func nonNil(s []ingest.Skipped) []ingest.Skipped {
+	if s == nil {
+		return []ingest.Skipped{}
+	}
+	return s
+}
+
+func orOpen(d string) string {
+	if d == "" {
+		return "(open)"
+	}
+	return d
+}
+
+func isPlotName(p string) bool {
+	ext := strings.ToLower(filepath.Ext(p))
+	return ext == ".png" || ext == ".svg"
+}
+
+// durationLabel writes a duration as a rider says it: 5 s, 8 min, 1 h 30 min.
+func durationLabel(s int) string {
+	switch {
+	case s < 60:
+		return fmt.Sprintf("%d s", s)
+	case s < 3600 && s%60 == 0:
+		return fmt.Sprintf("%d min", s/60)
+	case s < 3600:
+		return fmt.Sprintf("%d min %d s", s/60, s%60)
+	case s%3600 == 0:
+		return fmt.Sprintf("%d h", s/3600)
+	default:
+		return fmt.Sprintf("%d h %d min", s/3600, s%3600/60)
+	}
+}
+
+func renderCurve(w io.Writer, out curveOut, paths []string) {
+	fmt.Fprintf(w, "Best mean power, %d rides from %s to %s\n\n", out.Rides, orOpen(out.Window.From), orOpen(out.Window.To))
+	if len(out.Points) == 0 {
+		reportSkipped(w, out.Skipped)
+		return
+	}
+	byDur := curveIndex(out.Points)
+	var cmp map[int]powerduration.Point
+	if out.Compare != nil {
+		cmp = curveIndex(out.Compare.Points)
+	}
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	head := "duration\twatts\t"
+	if out.MassKG > 0 {
+		head += "W/kg\t"
+	}
+	if cmp != nil {
+		head += "compared\tchange\t"
+	}
+	fmt.Fprintln(tw, head+"date\t start in ride\t")
+	files := map[string]bool{}
+	for _, d := range powerduration.KeyDurations {
+		p, ok := byDur[d]
+		if !ok {
+			continue
+		}
+		row := fmt.Sprintf("%s\t%.0f\t", durationLabel(d), p.Watts)
+		if out.MassKG > 0 {
+			row += fmt.Sprintf("%.2f\t", p.Watts/out.MassKG)
+		}
+		if cmp != nil {
+			if q, ok := cmp[d]; ok {
+				row += fmt.Sprintf("%.0f\t%+.0f\t", q.Watts, p.Watts-q.Watts)
+			} else {
+				row += "-\t-\t"
+			}
+		}
+		row += fmt.Sprintf("%s\t%s\t  %s", p.Date, clock(p.OffsetS), p.File)
+		files[p.File] = true
+		fmt.Fprintln(tw, row)
+	}
+	tw.Flush()
+	if out.Compare != nil {
+		fmt.Fprintf(w, "\ncompared: %d rides from %s to %s\n", out.Compare.Rides, orOpen(out.Compare.Window.From), orOpen(out.Compare.Window.To))
+	}
+	if len(out.Skipped) > 0 {
+		fmt.Fprintln(w)
+		reportSkipped(w, out.Skipped)
+	}
+}
+
+func curveIndex(ps []powerduration.Point) map[int]powerduration.Point {
+	m := make(map[int]powerduration.Point, len(ps))
+	for _, p := range ps {
+		m[p.DurationS] = p
+	}
+	return m
+}
+
+func writeCurveCSV(w io.Writer, out curveOut) error {
+	cw := csv.NewWriter(w)
+	head := []string{"duration_s", "watts"}
+	if out.MassKG > 0 {
+		head = append(head, "w_per_kg")
+	}
+	cw.Write(append(head, "file", "date", "offset_s"))
+	for _, p := range out.Points {
+		row := []string{strconv.Itoa(p.DurationS), strconv.FormatFloat(p.Watts, 'f', 2, 64)}
+		if out.MassKG > 0 {
+			row = append(row, strconv.FormatFloat(p.Watts/out.MassKG, 'f', 3, 64))
+		}
+		cw.Write(append(row, p.File, p.Date, strconv.Itoa(p.OffsetS)))
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+func curveTitle(paths []string, out curveOut) string {
+	name := "rides"
+	if len(paths) == 1 {
+		name = filepath.Base(filepath.Clean(paths[0]))
+	} else if len(paths) > 1 {
+		name = fmt.Sprintf("%s and %d more", filepath.Base(filepath.Clean(paths[0])), len(paths)-1)
+	}
+	return fmt.Sprintf("Best mean power: %s, %s to %s (%d rides)", name, orOpen(out.Window.From), orOpen(out.Window.To), out.Rides)
+}
