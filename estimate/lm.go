@@ -133,7 +133,7 @@ func LevenbergMarquardt(pr Problem, b0 []float64) (Solution, error) {
 		rho := (cur - next) / pred
 		if !math.IsNaN(next) && pred > 0 && rho > 0 {
 			copy(b, trial)
-			done := (cur-next) <= 1e-15*cur
+			done := (cur - next) <= 1e-15*cur
 			cur = rss(b, r)
 			jacobian(b)
 			JtJ.SymOuterK(1, J.T())

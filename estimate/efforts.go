@@ -1,0 +1,176 @@
+package estimate
+
+import (
+	"fmt"
+	"slices"
+
+	"github.com/sustain-cycling/sustain/ingest"
+	"github.com/sustain-cycling/sustain/powerduration"
+)
+
+// Effort status: how a point of the best-of curve was judged.
+const (
+	EffortUsed   = "used"   // a maximal effort of its own
+	EffortNested = "nested" // part of a longer effort in the same ride: says little about its own duration
+	EffortPadded = "padded" // a shorter effort plus easier riding around it: not maximal for its duration
+)
+
+// candidateDurations are the durations at which efforts are looked for.
+var candidateDurations = []int{5, 10, 15, 20, 30, 45, 60, 90, 120, 150, 180, 240, 300, 360, 420, 480, 600, 720,
+	900, 1200, 1500, 1800, 2400, 3600, 5400, 7200}
+
+// Effort is a point of the best-of curve considered as a maximal effort.
+type Effort struct {
+	powerduration.Point
+	Status string `json:"status"`
+	// FlaggedS counts the seconds of the effort's window that cleaning had to
+	// fill, zero or strip of a spike, or that were stuck.
+	FlaggedS int `json:"flagged_s"`
+	// Group numbers the distinct efforts: used efforts whose windows overlap
+	// in the same ride share a group.
+	Group int `json:"group"`
+}
+
+// rideKey identifies a ride for provenance look-ups.
+type rideKey struct {
+	file    string
+	session int
+}
+
+func keyOfPoint(p powerduration.Point) rideKey { return rideKey{p.File, p.Session} }
+
+// nestedShare: when a longer window contains a shorter one, the rest of the
+// longer window has mean power P_rest. P_rest ≥ 80 % of the shorter
+// window's power says the shorter best is a piece of one sustained effort
+// (nested); less says the longer best is the shorter effort padded with
+// easier riding (common practice: recovery and endurance riding are far
+// below a maximal effort).
+const nestedShare = 0.8
+
+// SelectEfforts takes the curve's points at the candidate durations within
+// [minS, maxS] and judges each: used, nested or padded. rides (may be nil)
+// supplies the quality reports for FlaggedS.
+func SelectEfforts(c powerduration.Curve, minS, maxS int, rides map[rideKey]*ingest.Ride) []Effort {
+	var es []Effort
+	for _, d := range candidateDurations {
+		if d < minS || d > maxS {
+			continue
+		}
+		p, ok := c.At(d)
+		if !ok || p.Watts <= 0 {
+			continue
+		}
+		e := Effort{Point: p, Status: EffortUsed}
+		if r := rides[keyOfPoint(p)]; r != nil {
+			e.FlaggedS = r.Quality.FlaggedSeconds(p.OffsetS, p.DurationS)
+		}
+		es = append(es, e)
+	}
+	nested := make([]bool, len(es))
+	padded := make([]bool, len(es))
+	for i := range es {
+		for j := range es {
+			a, b := es[i], es[j] // a longer, b shorter
+			if a.DurationS <= b.DurationS || keyOfPoint(a.Point) != keyOfPoint(b.Point) ||
+				b.OffsetS < a.OffsetS || b.OffsetS+b.DurationS > a.OffsetS+a.DurationS {
+				continue
+			}
+			rest := (a.Watts*float64(a.DurationS) - b.Watts*float64(b.DurationS)) / float64(a.DurationS-b.DurationS)
+			if rest >= nestedShare*b.Watts {
+				nested[j] = true
+			} else {
+				padded[i] = true
+			}
+		}
+	}
+	for i := range es {
+		switch {
+		case padded[i]:
+			es[i].Status = EffortPadded
+		case nested[i]:
+			es[i].Status = EffortNested
+		}
+	}
+	groupEfforts(es)
+	return es
+}
+
+// groupEfforts numbers the distinct efforts among the used ones (1, 2, …).
+func groupEfforts(es []Effort) {
+	var used []int
+	for i := range es {
+		if es[i].Status == EffortUsed {
+			used = append(used, i)
+		}
+	}
+	// union of overlapping windows in the same ride
+	parent := make([]int, len(es))
+	for i := range parent {
+		parent[i] = i
+	}
+	var find func(int) int
+	find = func(i int) int {
+		for parent[i] != i {
+			parent[i] = parent[parent[i]]
+			i = parent[i]
+		}
+		return i
+	}
+	for x, i := range used {
+		for _, j := range used[x+1:] {
+			a, b := es[i], es[j]
+			if keyOfPoint(a.Point) == keyOfPoint(b.Point) &&
+				a.OffsetS < b.OffsetS+b.DurationS && b.OffsetS < a.OffsetS+a.DurationS {
+				parent[find(i)] = find(j)
+			}
+		}
+	}
+	ids := map[int]int{}
+	for _, i := range used {
+		r := find(i)
+		if ids[r] == 0 {
+			ids[r] = len(ids) + 1
+		}
+		es[i].Group = ids[r]
+	}
+}
+
+// used returns the used efforts with durations in [minS, maxS].
+func used(es []Effort, minS, maxS int) []Effort {
+	var out []Effort
+	for _, e := range es {
+		if e.Status == EffortUsed && e.DurationS >= minS && e.DurationS <= maxS {
+			out = append(out, e)
+		}
+	}
+	return out
+}
+
+// distinct counts the distinct efforts (groups) among es.
+func distinct(es []Effort) int {
+	var gs []int
+	for _, e := range es {
+		if e.Status == EffortUsed && !slices.Contains(gs, e.Group) {
+			gs = append(gs, e.Group)
+		}
+	}
+	return len(gs)
+}
+
+// band writes a duration range as a rider says it: "3–5 min".
+func band(lo, hi int) string {
+	if lo%60 == 0 && hi%60 == 0 {
+		return fmt.Sprintf("%d–%d min", lo/60, hi/60)
+	}
+	return fmt.Sprintf("%s to %s", minutes(lo), minutes(hi))
+}
+
+func minutes(s int) string {
+	if s < 60 {
+		return fmt.Sprintf("%d s", s)
+	}
+	if s%60 == 0 {
+		return fmt.Sprintf("%d min", s/60)
+	}
+	return fmt.Sprintf("%.1f min", float64(s)/60)
+}
