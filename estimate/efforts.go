@@ -48,9 +48,17 @@ func keyOfPoint(p powerduration.Point) rideKey { return rideKey{p.File, p.Sessio
 const nestedShare = 0.8
 
 // SelectEfforts takes the curve's points at the candidate durations within
-// [minS, maxS] and judges each: used, nested or padded. rides (may be nil)
-// supplies the quality reports for FlaggedS.
-func SelectEfforts(c powerduration.Curve, minS, maxS int, rides map[rideKey]*ingest.Ride) []Effort {
+// [minS, maxS] and judges each against the other windows of its own ride:
+//   - nested: the ride's best window of a longer candidate duration contains
+//     it and the rest of that window is ridden nearly as hard;
+//   - padded: it contains the ride's best window of a shorter candidate
+//     duration and the rest of it is ridden far easier;
+//   - used: neither, a maximal effort of its own.
+//
+// rides and own (either may be nil) give each ride's quality report and
+// its own curve; without its own curve a point is judged against the
+// other points of c from the same ride.
+func SelectEfforts(c powerduration.Curve, minS, maxS int, rides map[rideKey]*ingest.Ride, own map[rideKey]powerduration.Curve) []Effort {
 	var es []Effort
 	for _, d := range candidateDurations {
 		if d < minS || d > maxS {
@@ -66,33 +74,38 @@ func SelectEfforts(c powerduration.Curve, minS, maxS int, rides map[rideKey]*ing
 		}
 		es = append(es, e)
 	}
-	nested := make([]bool, len(es))
-	padded := make([]bool, len(es))
 	for i := range es {
-		for j := range es {
-			a, b := es[i], es[j] // a longer, b shorter
-			if a.DurationS <= b.DurationS || keyOfPoint(a.Point) != keyOfPoint(b.Point) ||
-				b.OffsetS < a.OffsetS || b.OffsetS+b.DurationS > a.OffsetS+a.DurationS {
+		e := es[i].Point
+		rc, ok := own[keyOfPoint(e)]
+		if !ok {
+			rc = c
+		}
+		for _, d := range candidateDurations {
+			q, ok := rc.At(d)
+			if !ok || d == e.DurationS || !q.Same(e) {
 				continue
 			}
-			rest := (a.Watts*float64(a.DurationS) - b.Watts*float64(b.DurationS)) / float64(a.DurationS-b.DurationS)
-			if rest >= nestedShare*b.Watts {
-				nested[j] = true
-			} else {
-				padded[i] = true
+			if d > e.DurationS && contains(q, e) && restPower(q, e) >= nestedShare*e.Watts {
+				es[i].Status = EffortNested
 			}
-		}
-	}
-	for i := range es {
-		switch {
-		case padded[i]:
-			es[i].Status = EffortPadded
-		case nested[i]:
-			es[i].Status = EffortNested
+			if d < e.DurationS && contains(e, q) && restPower(e, q) < nestedShare*q.Watts {
+				es[i].Status = EffortPadded
+				break
+			}
 		}
 	}
 	groupEfforts(es)
 	return es
+}
+
+// contains reports whether window a (same ride) contains window b.
+func contains(a, b powerduration.Point) bool {
+	return b.OffsetS >= a.OffsetS && b.OffsetS+b.DurationS <= a.OffsetS+a.DurationS
+}
+
+// restPower is the mean power of the part of window a outside window b.
+func restPower(a, b powerduration.Point) float64 {
+	return (a.Watts*float64(a.DurationS) - b.Watts*float64(b.DurationS)) / float64(a.DurationS-b.DurationS)
 }
 
 // groupEfforts numbers the distinct efforts among the used ones (1, 2, …).

@@ -128,11 +128,13 @@ type Report struct {
 func Estimate(rides []ingest.Ride, curves []powerduration.Curve, w powerduration.Window, opts Options) Report {
 	opts.defaults()
 	index := map[rideKey]*ingest.Ride{}
+	own := map[rideKey]powerduration.Curve{}
 	var inRides []*ingest.Ride
 	var inCurves []powerduration.Curve
 	for i := range rides {
 		if w.Contains(rides[i].Date()) {
-			index[rideKey{rides[i].File, rides[i].Session}] = &rides[i]
+			k := rideKey{rides[i].File, rides[i].Session}
+			index[k], own[k] = &rides[i], curves[i]
 			inRides = append(inRides, &rides[i])
 			inCurves = append(inCurves, curves[i])
 		}
@@ -143,7 +145,7 @@ func Estimate(rides []ingest.Ride, curves []powerduration.Curve, w powerduration
 		rep.Warnings = append(rep.Warnings, Warning{WarnThinData, "No rides in this window."})
 		return rep
 	}
-	rep.Efforts = SelectEfforts(rep.Curve, 1, math.MaxInt, index)
+	rep.Efforts = SelectEfforts(rep.Curve, 1, math.MaxInt, index, own)
 	rep.Rules = rules(rep.Curve)
 
 	cp2Efforts := used(rep.Efforts, opts.CP2MinS, opts.CP2MaxS)

@@ -144,7 +144,7 @@ func TestNoisyEfforts(t *testing.T) {
 		p := tracks[k].PowerW
 		for i := 1200; i+3 < len(p) && i < 2400; i += 40 {
 			p[i], p[i+1], p[i+2] = math.NaN(), math.NaN(), math.NaN() // a 3-s dropout, filled
-			p[i+20] = 2900                                           // a spike, removed and filled
+			p[i+20] = 2900                                            // a spike, removed and filled
 		}
 	}
 	rides, curves := ridesOf(t, tracks)

@@ -143,7 +143,7 @@ func curveAction(c *cli.Context) error {
 		return err
 	}
 	if p := c.String("plot"); p != "" && len(out.Points) > 0 {
-		if err := plotCurves(p, out, curveTitle(c.Args().Slice(), out)); err != nil {
+		if err := plotCurves(p, out, plotTitle("Best mean power", c.Args().Slice(), out.Window, out.Rides)); err != nil {
 			return fmt.Errorf("plot %s: %w", p, err)
 		}
 		if !c.Bool("json") && !c.Bool("csv") {
@@ -278,12 +278,13 @@ func writeCurveCSV(w io.Writer, out curveOut) error {
 	return cw.Error()
 }
 
-func curveTitle(paths []string, out curveOut) string {
+// plotTitle names what is plotted, the folder and the window.
+func plotTitle(what string, paths []string, win powerduration.Window, rides int) string {
 	name := "rides"
 	if len(paths) == 1 {
 		name = filepath.Base(filepath.Clean(paths[0]))
 	} else if len(paths) > 1 {
 		name = fmt.Sprintf("%s and %d more", filepath.Base(filepath.Clean(paths[0])), len(paths)-1)
 	}
-	return fmt.Sprintf("Best mean power: %s, %s to %s (%d rides)", name, orOpen(out.Window.From), orOpen(out.Window.To), out.Rides)
+	return fmt.Sprintf("%s: %s, %s to %s (%d rides)", what, name, orOpen(win.From), orOpen(win.To), rides)
 }

@@ -70,6 +70,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 		Commands: []*cli.Command{
 			inspectCommand(),
 			curveCommand(),
+			estimateCommand(),
 			demoCommand(),
 		},
 		Action: func(c *cli.Context) error {

@@ -5,6 +5,7 @@ import (
 	"image/color"
 	"math"
 
+	"github.com/sustain-cycling/sustain/estimate"
 	"github.com/sustain-cycling/sustain/powerduration"
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -52,6 +53,19 @@ func curveXYs(ps []powerduration.Point) plotter.XYs {
 	return xy
 }
 
+// wholeTicks labels a linear axis in whole numbers.
+type wholeTicks struct{}
+
+func (wholeTicks) Ticks(lo, hi float64) []plot.Tick {
+	ts := plot.DefaultTicks{}.Ticks(lo, hi)
+	for i := range ts {
+		if ts[i].Label != "" {
+			ts[i].Label = fmt.Sprintf("%.0f", ts[i].Value)
+		}
+	}
+	return ts
+}
+
 // newCurvePlot is an empty power-duration plot: log time, watts.
 func newCurvePlot(title string) *plot.Plot {
 	p := plot.New()
@@ -61,6 +75,7 @@ func newCurvePlot(title string) *plot.Plot {
 	p.X.Scale = plot.LogScale{}
 	p.X.Tick.Marker = timeTicks{}
 	p.Y.Min = 0
+	p.Y.Tick.Marker = wholeTicks{}
 	p.Legend.Top = true
 	p.Add(&plotter.Grid{Vertical: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)},
 		Horizontal: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)}})
@@ -99,5 +114,61 @@ func plotCurves(path string, out curveOut, title string) error {
 	}
 	p.X.Min = 1
 	p.X.Max = math.Max(float64(out.Points[len(out.Points)-1].DurationS), 60)
+	return p.Save(22*vg.Centimeter, 14*vg.Centimeter, path)
+}
+
+func plotEstimate(path string, rep estimate.Report, title string) error {
+	p := newCurvePlot(title)
+	if err := addLine(p, curveXYs(rep.Curve.Points), "best mean power", inkMain, false, 2); err != nil {
+		return err
+	}
+	maxS := math.Max(float64(rep.Curve.Points[len(rep.Curve.Points)-1].DurationS), 60)
+	k := 0
+	for _, f := range rep.Models {
+		if f.Model == estimate.ModelCP2Work || f.Model == estimate.ModelCP2Inverse {
+			continue
+		}
+		// draw each model over the durations it was fitted to (the
+		// 2-parameter model runs to infinity at short durations)
+		lo, hi := 1.0, maxS
+		if f.Model == estimate.ModelCP2 && len(f.Efforts) > 0 {
+			lo = float64(f.Efforts[0].DurationS) / 2
+			hi = math.Min(maxS, 2*float64(f.Efforts[len(f.Efforts)-1].DurationS))
+		}
+		var xy plotter.XYs
+		for _, pt := range modelCurve(f, maxS) {
+			if pt[0] >= lo && pt[0] <= hi {
+				xy = append(xy, plotter.XY{X: pt[0], Y: pt[1]})
+			}
+		}
+		label := fmt.Sprintf("%s: CP %.0f W, W′ %.1f kJ (%s)", f.Model, f.CPW, f.WPrimeJ/1000, f.Confidence)
+		if err := addLine(p, xy, label, inkModel[k%len(inkModel)], true, 1.2); err != nil {
+			return err
+		}
+		k++
+	}
+	var used plotter.XYs
+	for _, e := range rep.Efforts {
+		if e.Status == estimate.EffortUsed {
+			used = append(used, plotter.XY{X: float64(e.DurationS), Y: e.Watts})
+		}
+	}
+	if len(used) > 0 {
+		s, err := plotter.NewScatter(used)
+		if err != nil {
+			return err
+		}
+		s.GlyphStyle.Shape = draw.CircleGlyph{}
+		s.GlyphStyle.Radius = vg.Points(3.5)
+		s.GlyphStyle.Color = inkCompare
+		p.Add(s)
+		p.Legend.Add("maximal efforts found", s)
+	}
+	top := 0.0
+	for _, pt := range rep.Curve.Points {
+		top = math.Max(top, pt.Watts)
+	}
+	p.X.Min, p.X.Max = 1, maxS
+	p.Y.Max = 1.15 * top
 	return p.Save(22*vg.Centimeter, 14*vg.Centimeter, path)
 }

@@ -1,0 +1,321 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"strings"
+	"text/tabwriter"
+
+	"github.com/sustain-cycling/sustain/estimate"
+	"github.com/sustain-cycling/sustain/ingest"
+	"github.com/sustain-cycling/sustain/powerduration"
+	"github.com/urfave/cli/v2"
+)
+
+var modelNames = []string{estimate.ModelCP2, estimate.ModelCP2Work, estimate.ModelCP2Inverse, estimate.ModelMorton, estimate.ModelOmni}
+
+func estimateFlags() []cli.Flag {
+	return []cli.Flag{
+		&cli.StringFlag{Name: "model", Usage: "headline model instead of the best-supported one: " + strings.Join(modelNames, ", ")},
+		&cli.StringFlag{Name: "cp2-range", Value: "2m-20m", Usage: "durations of the efforts the 2-parameter fit uses, e.g. 3m-15m"},
+		&cli.BoolFlag{Name: "differential", Usage: "W′ balance audit with the differential form (Skiba et al. 2015) instead of the integral form (2012)"},
+	}
+}
+
+func estimateOptions(c *cli.Context) (estimate.Options, error) {
+	var o estimate.Options
+	if m := c.String("model"); m != "" {
+		found := false
+		for _, n := range modelNames {
+			found = found || n == m
+		}
+		if !found {
+			return o, usageError{fmt.Sprintf("--model takes one of %s, not %q", strings.Join(modelNames, ", "), m)}
+		}
+		o.Model = m
+	}
+	lo, hi, err := parseRange(c.String("cp2-range"))
+	if err != nil {
+		return o, usageError{err.Error()}
+	}
+	o.CP2MinS, o.CP2MaxS = lo, hi
+	o.Differential = c.Bool("differential")
+	return o, nil
+}
+
+// parseRange reads "2m-20m" or "120-1200" (seconds).
+func parseRange(s string) (int, int, error) {
+	parts := strings.Split(s, "-")
+	if len(parts) != 2 {
+		return 0, 0, fmt.Errorf("range %q is not like 2m-20m", s)
+	}
+	var v [2]int
+	for i, p := range parts {
+		p = strings.TrimSpace(p)
+		mult := 1
+		switch {
+		case strings.HasSuffix(p, "m"):
+			p, mult = strings.TrimSuffix(p, "m"), 60
+		case strings.HasSuffix(p, "s"):
+			p = strings.TrimSuffix(p, "s")
+		}
+		var n int
+		if _, err := fmt.Sscanf(p, "%d", &n); err != nil || n <= 0 || fmt.Sprint(n) != p {
+			return 0, 0, fmt.Errorf("range %q is not like 2m-20m", s)
+		}
+		v[i] = n * mult
+	}
+	if v[0] >= v[1] {
+		return 0, 0, fmt.Errorf("range %q: the first duration must be the shorter", s)
+	}
+	return v[0], v[1], nil
+}
+
+func estimateCommand() *cli.Command {
+	flags := append(ingestFlags(), windowFlags()...)
+	flags = append(flags, estimateFlags()...)
+	flags = append(flags,
+		&cli.Float64Flag{Name: "mass", Usage: "rider mass in kg, to add W/kg"},
+		&cli.StringFlag{Name: "plot", Usage: "write the curve, each model's fit and the efforts used to FILE.png or FILE.svg"},
+	)
+	return &cli.Command{
+		Name:      "estimate",
+		Usage:     "threshold power (critical power) with its range, confidence, reasons and advice (default window: the 90 days ending at the newest ride)",
+		ArgsUsage: "PATH...",
+		Flags:     flags,
+		Action:    estimateAction,
+	}
+}
+
+func estimateAction(c *cli.Context) error {
+	opts, err := estimateOptions(c)
+	if err != nil {
+		return err
+	}
+	if c.Float64("mass") < 0 || (c.IsSet("mass") && c.Float64("mass") == 0) {
+		return usageError{"--mass must be above 0 kg"}
+	}
+	if p := c.String("plot"); p != "" && !isPlotName(p) {
+		return usageError{"--plot takes a file name ending in .png or .svg"}
+	}
+	res, err := scan(c)
+	if err != nil {
+		return err
+	}
+	curves := powerduration.OfRides(res.Rides, c.Int("workers"))
+	win, err := window(c, powerduration.Newest(curves), "90d")
+	if err != nil {
+		return err
+	}
+	rep := estimate.Estimate(res.Rides, curves, win, opts)
+	out := estimateJSON(rep, res.Skipped)
+	w := c.App.Writer
+	if c.Bool("json") {
+		if err := writeJSON(w, out); err != nil {
+			return err
+		}
+	} else {
+		renderEstimate(w, out, c.Float64("mass"))
+	}
+	if p := c.String("plot"); p != "" && len(rep.Curve.Points) > 0 {
+		if err := plotEstimate(p, rep, plotTitle("Power-duration fit", c.Args().Slice(), win, rep.Rides)); err != nil {
+			return fmt.Errorf("plot %s: %w", p, err)
+		}
+		if !c.Bool("json") {
+			fmt.Fprintf(w, "\nplot written to %s\n", p)
+		}
+	}
+	if len(res.Rides) > 0 && rep.Rides == 0 {
+		return cli.Exit(fmt.Sprintf("no ride between %s and %s", orOpen(win.From), orOpen(win.To)), exitNothing)
+	}
+	return nothingRead(res)
+}
+
+// JSON shapes of the output contract.
+type modelJSON struct {
+	Model     string            `json:"model"`
+	CPW       float64           `json:"cp_w"`
+	WPrimeJ   float64           `json:"w_prime_j"`
+	PmaxW     *float64          `json:"pmax_w"`
+	AW        *float64          `json:"a_w,omitempty"`
+	CPSEW     float64           `json:"cp_se_w"`
+	WPrimeSEJ float64           `json:"w_prime_se_j"`
+	PmaxSEW   *float64          `json:"pmax_se_w,omitempty"`
+	RMSEW     float64           `json:"rmse_w"`
+	Conf      string            `json:"confidence"`
+	Reasons   []string          `json:"reasons"`
+	Efforts   []estimate.Effort `json:"efforts"`
+}
+
+type failedJSON struct {
+	Model  string `json:"model"`
+	Reason string `json:"reason"`
+}
+
+type adviceJSON struct {
+	estimate.Advice
+	Caution string `json:"caution"`
+}
+
+type estimateOut struct {
+	Window    powerduration.Window `json:"window"`
+	Rides     int                  `json:"rides"`
+	Skipped   []ingest.Skipped     `json:"skipped"`
+	Threshold *estimate.Threshold  `json:"threshold"`
+	Models    []modelJSON          `json:"models"`
+	Failed    []failedJSON         `json:"failed"`
+	Rules     []estimate.Rule      `json:"rules"`
+	Warnings  []estimate.Warning   `json:"warnings"`
+	Advice    adviceJSON           `json:"advice"`
+	Audit     []estimate.AuditRide `json:"wbal_audit"`
+	Efforts   []estimate.Effort    `json:"efforts"`
+}
+
+func ptr(v float64) *float64 { return &v }
+
+func estimateJSON(rep estimate.Report, skipped []ingest.Skipped) estimateOut {
+	out := estimateOut{Window: rep.Window, Rides: rep.Rides, Skipped: nonNil(skipped), Threshold: rep.Threshold,
+		Models: []modelJSON{}, Failed: []failedJSON{}, Rules: rep.Rules, Warnings: rep.Warnings,
+		Advice: adviceJSON{rep.Advice, estimate.Caution}, Audit: rep.Audit, Efforts: rep.Efforts}
+	for _, f := range rep.Models {
+		m := modelJSON{Model: f.Model, CPW: f.CPW, WPrimeJ: f.WPrimeJ, CPSEW: f.CPSEW, WPrimeSEJ: f.WPrimeSEJ,
+			RMSEW: f.RMSEW, Conf: f.Confidence, Reasons: f.Reasons, Efforts: f.Efforts}
+		if f.PmaxW != 0 {
+			m.PmaxW, m.PmaxSEW = ptr(f.PmaxW), ptr(f.PmaxSEW)
+		}
+		if f.Model == estimate.ModelOmni {
+			m.AW = ptr(f.A)
+		}
+		out.Models = append(out.Models, m)
+	}
+	for _, name := range modelNames {
+		if why, ok := rep.Failed[name]; ok {
+			out.Failed = append(out.Failed, failedJSON{name, why})
+		}
+	}
+	if out.Rules == nil {
+		out.Rules = []estimate.Rule{}
+	}
+	if out.Warnings == nil {
+		out.Warnings = []estimate.Warning{}
+	}
+	if out.Audit == nil {
+		out.Audit = []estimate.AuditRide{}
+	}
+	if out.Efforts == nil {
+		out.Efforts = []estimate.Effort{}
+	}
+	if out.Advice.Gaps == nil {
+		out.Advice.Gaps = []string{}
+	}
+	return out
+}
+
+func renderEstimate(w io.Writer, out estimateOut, massKG float64) {
+	fmt.Fprintf(w, "Window %s to %s: %d rides\n\n", orOpen(out.Window.From), orOpen(out.Window.To), out.Rides)
+	if th := out.Threshold; th != nil {
+		fmt.Fprintf(w, "Threshold (critical power): %.0f W, likely between %.0f and %.0f W; confidence %s (%s)\n",
+			th.Watts, th.LowW, th.HighW, th.Confidence, th.Model)
+		if massKG > 0 {
+			fmt.Fprintf(w, "  %.2f W/kg at %.1f kg\n", th.Watts/massKG, massKG)
+		}
+		if th.Confidence == estimate.Low {
+			fmt.Fprintln(w, "  The data cannot support a confident figure; the warnings below say why.")
+		}
+	} else {
+		fmt.Fprintln(w, "Threshold: cannot be estimated from these rides.")
+	}
+	if len(out.Models) > 0 {
+		fmt.Fprintln(w, "\nModels")
+		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+		fmt.Fprintln(tw, "  model\tCP (W)\tW′ (kJ)\tPmax (W)\tfit error\tconfidence\treasons")
+		for _, m := range out.Models {
+			pmax := "-"
+			if m.PmaxW != nil {
+				pmax = fmt.Sprintf("%.0f ± %.0f", *m.PmaxW, *m.PmaxSEW)
+			}
+			fmt.Fprintf(tw, "  %s\t%.1f ± %.1f\t%.1f ± %.1f\t%s\t%.1f W\t%s\t%s\n", m.Model, m.CPW, m.CPSEW, m.WPrimeJ/1000, m.WPrimeSEJ/1000,
+				pmax, m.RMSEW, m.Conf, strings.Join(m.Reasons, "; "))
+		}
+		tw.Flush()
+		fmt.Fprintln(w, "  (± one standard error; cp2-work and cp2-inverse are the linear forms of cp2, shown for comparison)")
+	}
+	for _, f := range out.Failed {
+		fmt.Fprintf(w, "  %s: not fitted: %s\n", f.Model, f.Reason)
+	}
+	if len(out.Rules) > 0 {
+		fmt.Fprintln(w, "\nRules of thumb (common practice)")
+		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+		for _, r := range out.Rules {
+			fmt.Fprintf(tw, "  %s\t%.0f W\tfrom %.0f W on %s at %s in %s\n", r.Rule, r.Watts, r.Effort.Watts, r.Effort.Date, clock(r.Effort.OffsetS), r.Effort.File)
+		}
+		tw.Flush()
+	}
+	var usedEfforts []estimate.Effort
+	for _, e := range out.Efforts {
+		if e.Status == estimate.EffortUsed {
+			usedEfforts = append(usedEfforts, e)
+		}
+	}
+	if len(usedEfforts) > 0 {
+		fmt.Fprintln(w, "\nMaximal efforts found")
+		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+		for _, e := range usedEfforts {
+			flag := ""
+			if e.FlaggedS > 0 {
+				flag = fmt.Sprintf("  (%d s repaired or suspect)", e.FlaggedS)
+			}
+			fmt.Fprintf(tw, "  %s\t%.0f W\t%s\tat %s in %s%s\n", durationLabel(e.DurationS), e.Watts, e.Date, clock(e.OffsetS), e.File, flag)
+		}
+		tw.Flush()
+		nested, padded := 0, 0
+		for _, e := range out.Efforts {
+			switch e.Status {
+			case estimate.EffortNested:
+				nested++
+			case estimate.EffortPadded:
+				padded++
+			}
+		}
+		if nested+padded > 0 {
+			fmt.Fprintf(w, "  (%d other bests were parts of longer efforts and %d were shorter efforts padded with easy riding; they were left out)\n", nested, padded)
+		}
+	}
+	if len(out.Warnings) > 0 {
+		fmt.Fprintln(w, "\nWarnings")
+		for _, x := range out.Warnings {
+			fmt.Fprintf(w, "  [%s] %s\n", x.Code, x.Message)
+		}
+	}
+	fmt.Fprintln(w, "\nAdvice")
+	fmt.Fprintf(w, "  %s\n", out.Advice.Message)
+	for _, g := range out.Advice.Gaps {
+		fmt.Fprintf(w, "  - %s\n", g)
+	}
+	fmt.Fprintf(w, "  Caution: %s\n", estimate.Caution)
+	if out.Threshold != nil && out.Threshold.Model != "20min-rule" {
+		fmt.Fprintf(w, "\nW′ balance audit (%s fit)\n", out.Threshold.Model)
+		if len(out.Audit) == 0 {
+			fmt.Fprintln(w, "  No ride drove W′ balance below −10 % of W′: the fit is consistent with every ride in the window.")
+		}
+		for _, a := range out.Audit {
+			fmt.Fprintf(w, "  %s %s: balance fell to %.1f kJ at %s: CP or W′ is probably too low\n", a.Date, a.File, a.MinBalanceJ/1000, clock(a.AtS))
+		}
+	}
+	if len(out.Skipped) > 0 {
+		fmt.Fprintln(w)
+		reportSkipped(w, out.Skipped)
+	}
+}
+
+// modelCurve samples a fit over the plotted durations.
+func modelCurve(f estimate.Fit, maxS float64) [][2]float64 {
+	var pts [][2]float64
+	for t := 1.0; t <= maxS; t *= 1.08 {
+		if p := f.Power(t); !math.IsNaN(p) && p > 0 {
+			pts = append(pts, [2]float64{t, p})
+		}
+	}
+	return pts
+}
