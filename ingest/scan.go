@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"runtime"
 	"sort"
+	"strings"
 	"sync"
 	"syscall"
 )
@@ -183,4 +184,39 @@ func walk(dir string, st os.FileInfo, visited map[fileKey]bool, add func(string)
 			add(p)
 		}
 	}
+}
+
+// Squad reports whether dir is a coach's folder of athletes: it holds no
+// ride files of its own and at least two subfolders that hold rides, whose
+// names are not all dates or numbers (a rider's archive by year is not a
+// squad). It returns the athletes' folder names, sorted.
+func Squad(dir string) ([]string, bool) {
+	entries, err := os.ReadDir(dir)
+	if err != nil {
+		return nil, false
+	}
+	var names []string
+	allNumeric := true
+	for _, e := range entries {
+		p := filepath.Join(dir, e.Name())
+		st, err := os.Stat(p)
+		if err != nil || strings.HasPrefix(e.Name(), ".") {
+			continue
+		}
+		if !st.IsDir() {
+			if IsRideName(e.Name()) {
+				return nil, false
+			}
+			continue
+		}
+		if files, _ := ListFiles([]string{p}); len(files) > 0 {
+			names = append(names, e.Name())
+			allNumeric = allNumeric && strings.Trim(e.Name(), "0123456789-_") == ""
+		}
+	}
+	if len(names) < 2 || allNumeric {
+		return nil, false
+	}
+	sort.Strings(names)
+	return names, true
 }

@@ -71,6 +71,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 			inspectCommand(),
 			curveCommand(),
 			estimateCommand(),
+			seasonCommand(),
 			demoCommand(),
 		},
 		Action: func(c *cli.Context) error {

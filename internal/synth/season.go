@@ -39,7 +39,7 @@ func Block(base Athlete, cpGainW, wPrimeLossJ float64) Progression {
 // ordinary faults of field data. It is deterministic for a given seed.
 func Season(name string, start time.Time, weeks int, prog Progression, seed uint64) []SeasonFile {
 	var files []SeasonFile
-	short := [][]int{{180, 60}, {240, 30}, {120, 300}}
+	short := [][]int{{180, 60, 10}, {240, 30, 10}, {120, 300, 10}}
 	long := [][]int{{720}, {480, 1200}, {600}, {1200}}
 	for w := range weeks {
 		for k, dow := range []int{1, 3, 5, 6} {

@@ -1,0 +1,311 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"path/filepath"
+	"strings"
+	"text/tabwriter"
+
+	"github.com/sustain-cycling/sustain/estimate"
+	"github.com/sustain-cycling/sustain/ingest"
+	"github.com/sustain-cycling/sustain/powerduration"
+	"github.com/urfave/cli/v2"
+)
+
+func seasonCommand() *cli.Command {
+	flags := append(ingestFlags(), estimateFlags()...)
+	flags = append(flags,
+		&cli.StringFlag{Name: "window", Value: "42d", Usage: "length of each rolling window"},
+		&cli.StringFlag{Name: "step", Value: "7d", Usage: "distance between the ends of consecutive windows"},
+		&cli.StringFlag{Name: "components", Value: estimate.ModelMorton, Usage: "model whose CP, W′ and Pmax are followed: morton3, omni or cp2 (no Pmax)"},
+		&cli.StringFlag{Name: "athlete", Usage: "in a folder of athletes (one subfolder each), show this athlete's season"},
+		&cli.StringFlag{Name: "plot", Usage: "write CP, W′ and Pmax over the season to FILE.png or FILE.svg"},
+	)
+	return &cli.Command{
+		Name:      "season",
+		Usage:     "rolling estimates across a season: which of CP, W′ and Pmax moved; one row per athlete for a folder of athletes",
+		ArgsUsage: "PATH...",
+		Flags:     flags,
+		Action:    seasonAction,
+	}
+}
+
+func seasonOptions(c *cli.Context) (estimate.SeasonOptions, error) {
+	var so estimate.SeasonOptions
+	o, err := estimateOptions(c)
+	if err != nil {
+		return so, err
+	}
+	so.Options = o
+	if so.WindowDays, err = powerduration.ParseDays(c.String("window")); err != nil {
+		return so, usageError{"--window: " + err.Error()}
+	}
+	if so.StepDays, err = powerduration.ParseDays(c.String("step")); err != nil {
+		return so, usageError{"--step: " + err.Error()}
+	}
+	switch m := c.String("components"); m {
+	case estimate.ModelMorton, estimate.ModelOmni, estimate.ModelCP2:
+		so.Components = m
+	default:
+		return so, usageError{fmt.Sprintf("--components takes morton3, omni or cp2, not %q", m)}
+	}
+	return so, nil
+}
+
+func seasonAction(c *cli.Context) error {
+	so, err := seasonOptions(c)
+	if err != nil {
+		return err
+	}
+	if p := c.String("plot"); p != "" && !isPlotName(p) {
+		return usageError{"--plot takes a file name ending in .png or .svg"}
+	}
+	if c.NArg() == 1 {
+		if names, ok := ingest.Squad(c.Args().First()); ok {
+			return squadAction(c, so, names)
+		}
+	}
+	if c.String("athlete") != "" {
+		return usageError{"--athlete needs one folder with a subfolder per athlete"}
+	}
+	res, err := scan(c)
+	if err != nil {
+		return err
+	}
+	rep := estimate.Season(res.Rides, powerduration.OfRides(res.Rides, c.Int("workers")), so)
+	return writeSeason(c, res, rep, so, plotTitle("Season", c.Args().Slice(), powerduration.Window{From: firstDate(res), To: lastDate(res)}, len(res.Rides)))
+}
+
+func firstDate(res ingest.Result) string {
+	if len(res.Rides) == 0 {
+		return ""
+	}
+	return res.Rides[0].Date()
+}
+
+func lastDate(res ingest.Result) string {
+	if len(res.Rides) == 0 {
+		return ""
+	}
+	return res.Rides[len(res.Rides)-1].Date()
+}
+
+func writeSeason(c *cli.Context, res ingest.Result, rep estimate.SeasonReport, so estimate.SeasonOptions, title string) error {
+	out := seasonJSON(rep, res.Skipped, len(res.Rides))
+	w := c.App.Writer
+	if c.Bool("json") {
+		if err := writeJSON(w, out); err != nil {
+			return err
+		}
+	} else {
+		renderSeason(w, out, so, firstDate(res), lastDate(res))
+	}
+	if p := c.String("plot"); p != "" && len(rep.Windows) > 0 {
+		if err := plotSeason(p, rep, title); err != nil {
+			return fmt.Errorf("plot %s: %w", p, err)
+		}
+		if !c.Bool("json") {
+			fmt.Fprintf(w, "\nplot written to %s\n", p)
+		}
+	}
+	return nothingRead(res)
+}
+
+type seasonWindowJSON struct {
+	From       string   `json:"from"`
+	To         string   `json:"to"`
+	Rides      int      `json:"rides"`
+	Estimated  bool     `json:"estimated"`
+	Reason     string   `json:"reason,omitempty"`
+	Model      string   `json:"model"`
+	CPW        *float64 `json:"cp_w"`
+	CPSEW      *float64 `json:"cp_se_w"`
+	WPrimeJ    *float64 `json:"w_prime_j"`
+	WPrimeSEJ  *float64 `json:"w_prime_se_j"`
+	PmaxW      *float64 `json:"pmax_w"`
+	PmaxSEW    *float64 `json:"pmax_se_w"`
+	ThresholdW *float64 `json:"threshold_w"`
+	LowW       *float64 `json:"threshold_low_w"`
+	HighW      *float64 `json:"threshold_high_w"`
+	Headline   string   `json:"threshold_model,omitempty"`
+	Confidence *string  `json:"confidence"`
+}
+
+type changeJSON struct {
+	From      powerduration.Window `json:"from"`
+	To        powerduration.Window `json:"to"`
+	Component string               `json:"component"`
+	Delta     float64              `json:"delta"`
+	SE        float64              `json:"se"`
+	Message   string               `json:"message"`
+}
+
+type seasonOut struct {
+	Rides   int                `json:"rides"`
+	Skipped []ingest.Skipped   `json:"skipped"`
+	Windows []seasonWindowJSON `json:"windows"`
+	Changes []changeJSON       `json:"changes"`
+	Overall string             `json:"overall"`
+}
+
+func seasonJSON(rep estimate.SeasonReport, skipped []ingest.Skipped, rides int) seasonOut {
+	out := seasonOut{Rides: rides, Skipped: nonNil(skipped), Windows: []seasonWindowJSON{}, Changes: []changeJSON{}, Overall: rep.Overall}
+	for _, w := range rep.Windows {
+		j := seasonWindowJSON{From: w.From, To: w.To, Rides: w.Rides, Estimated: w.Estimated, Reason: w.Reason, Model: w.Model}
+		if w.Estimated {
+			j.CPW, j.CPSEW, j.WPrimeJ, j.WPrimeSEJ = ptr(w.CPW), ptr(w.CPSEW), ptr(w.WPrimeJ), ptr(w.WPrimeSEJ)
+			if w.PmaxW > 0 {
+				j.PmaxW, j.PmaxSEW = ptr(w.PmaxW), ptr(w.PmaxSEW)
+			}
+			if t := w.Threshold; t != nil {
+				j.ThresholdW, j.LowW, j.HighW, j.Headline = ptr(t.Watts), ptr(t.LowW), ptr(t.HighW), t.Model
+			}
+			conf := w.Confidence
+			j.Confidence = &conf
+		}
+		out.Windows = append(out.Windows, j)
+	}
+	for _, c := range rep.Changes {
+		out.Changes = append(out.Changes, changeJSON{c.From, c.To, c.Component, c.Delta, c.SE, c.Message})
+	}
+	return out
+}
+
+func num(v *float64, scale float64, se *float64) string {
+	if v == nil {
+		return "-"
+	}
+	if se == nil {
+		return fmt.Sprintf("%.0f", *v/scale)
+	}
+	if scale == 1 {
+		return fmt.Sprintf("%.0f ± %.0f", *v, *se)
+	}
+	return fmt.Sprintf("%.1f ± %.1f", *v/scale, *se/scale)
+}
+
+func renderSeason(w io.Writer, out seasonOut, so estimate.SeasonOptions, first, last string) {
+	fmt.Fprintf(w, "Season %s to %s: %d rides; windows of %d days every %d days; CP, W′ and Pmax from the %s model (± one standard error)\n\n",
+		orOpen(first), orOpen(last), out.Rides, so.WindowDays, so.StepDays, so.Components)
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "window\trides\tCP (W)\tW′ (kJ)\tPmax (W)\tthreshold (W)\tconfidence\t")
+	for _, x := range out.Windows {
+		if !x.Estimated {
+			fmt.Fprintf(tw, "%s – %s\t%d\t-\t-\t-\t-\t-\tnot estimated: %s\n", x.From, x.To, x.Rides, x.Reason)
+			continue
+		}
+		th := "-"
+		if x.ThresholdW != nil {
+			th = fmt.Sprintf("%.0f (%.0f–%.0f)", *x.ThresholdW, *x.LowW, *x.HighW)
+		}
+		fmt.Fprintf(tw, "%s – %s\t%d\t%s\t%s\t%s\t%s\t%s\t\n", x.From, x.To, x.Rides, num(x.CPW, 1, x.CPSEW), num(x.WPrimeJ, 1000, x.WPrimeSEJ),
+			num(x.PmaxW, 1, x.PmaxSEW), th, *x.Confidence)
+	}
+	tw.Flush()
+	fmt.Fprintf(w, "\nWhat changed (each window against the one %d days earlier, beyond both windows' uncertainty)\n", so.WindowDays)
+	if len(out.Changes) == 0 {
+		fmt.Fprintln(w, "  Nothing moved beyond its uncertainty.")
+	}
+	for i := 0; i < len(out.Changes); {
+		j, parts := i, []string{}
+		for ; j < len(out.Changes) && out.Changes[j].From == out.Changes[i].From && out.Changes[j].To == out.Changes[i].To; j++ {
+			parts = append(parts, shortChange(out.Changes[j]))
+		}
+		fmt.Fprintf(w, "  window ending %s → window ending %s: %s\n", out.Changes[i].From.To, out.Changes[i].To.To, strings.Join(parts, ", "))
+		i = j
+	}
+	fmt.Fprintf(w, "\nOverall: %s\n", out.Overall)
+	if len(out.Skipped) > 0 {
+		fmt.Fprintln(w)
+		reportSkipped(w, out.Skipped)
+	}
+}
+
+// squad: one row per athlete, or one athlete's season with --athlete.
+type athleteRow struct {
+	Athlete     string               `json:"athlete"`
+	Rides       int                  `json:"rides"`
+	Skipped     []ingest.Skipped     `json:"skipped"`
+	LastRide    string               `json:"last_ride"`
+	Threshold   *estimate.Threshold  `json:"threshold"`
+	Change6wW   *float64             `json:"cp_change_6w_w"`
+	Significant bool                 `json:"cp_change_significant"`
+	Window      powerduration.Window `json:"window"`
+}
+
+func squadAction(c *cli.Context, so estimate.SeasonOptions, names []string) error {
+	dir := c.Args().First()
+	opts, err := ingestOptions(c)
+	if err != nil {
+		return err
+	}
+	if a := c.String("athlete"); a != "" {
+		found := false
+		for _, n := range names {
+			found = found || n == a
+		}
+		if !found {
+			return usageError{fmt.Sprintf("no athlete %q in %s (athletes: %v)", a, dir, names)}
+		}
+		res := ingest.Scan([]string{filepath.Join(dir, a)}, opts)
+		rep := estimate.Season(res.Rides, powerduration.OfRides(res.Rides, opts.Workers), so)
+		return writeSeason(c, res, rep, so, plotTitle("Season of "+a, []string{filepath.Join(dir, a)}, powerduration.Window{From: firstDate(res), To: lastDate(res)}, len(res.Rides)))
+	}
+	var rows []athleteRow
+	anyRide := false
+	for _, n := range names {
+		res := ingest.Scan([]string{filepath.Join(dir, n)}, opts)
+		row := athleteRow{Athlete: n, Rides: len(res.Rides), Skipped: nonNil(res.Skipped), LastRide: lastDate(res)}
+		if len(res.Rides) > 0 {
+			anyRide = true
+			rep := estimate.Season(res.Rides, powerduration.OfRides(res.Rides, opts.Workers), so)
+			last := rep.Windows[len(rep.Windows)-1]
+			row.Threshold, row.Window = last.Threshold, last.Window
+			if d, sig, ok := estimate.RecentChange(rep, 42); ok {
+				row.Change6wW, row.Significant = ptr(d), sig
+			}
+		}
+		rows = append(rows, row)
+	}
+	w := c.App.Writer
+	if c.Bool("json") {
+		if err := writeJSON(w, map[string]any{"athletes": rows}); err != nil {
+			return err
+		}
+	} else {
+		fmt.Fprintf(w, "Squad %s: %d athletes; threshold from each athlete's latest %d-day window\n\n", dir, len(rows), so.WindowDays)
+		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+		fmt.Fprintln(tw, "athlete\tthreshold (W)\tconfidence\tCP change, 6 weeks\trides\tlast ride\t")
+		for _, r := range rows {
+			th, conf, ch := "-", "-", "-"
+			if r.Threshold != nil {
+				th = fmt.Sprintf("%.0f (%.0f–%.0f)", r.Threshold.Watts, r.Threshold.LowW, r.Threshold.HighW)
+				conf = r.Threshold.Confidence
+			}
+			if r.Change6wW != nil {
+				ch = fmt.Sprintf("%+.0f W", *r.Change6wW)
+				if !r.Significant {
+					ch += " (within uncertainty)"
+				}
+			}
+			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%s\t\n", r.Athlete, th, conf, ch, r.Rides, orOpen(r.LastRide))
+		}
+		tw.Flush()
+		fmt.Fprintf(w, "\nDetail for one athlete: sustain season %s --athlete NAME\n", dir)
+	}
+	if !anyRide {
+		return cli.Exit("no ride could be read for any athlete", exitNothing)
+	}
+	return nil
+}
+
+func shortChange(c changeJSON) string {
+	switch c.Component {
+	case "cp":
+		return fmt.Sprintf("CP %+.1f W (± %.1f)", c.Delta, 1.96*c.SE)
+	case "w_prime":
+		return fmt.Sprintf("W′ %+.1f kJ (± %.1f)", c.Delta/1000, 1.96*c.SE/1000)
+	}
+	return fmt.Sprintf("Pmax %+.0f W (± %.0f)", c.Delta, 1.96*c.SE)
+}

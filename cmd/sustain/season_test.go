@@ -1,0 +1,132 @@
+package main
+
+import (
+	"encoding/json"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/sustain-cycling/sustain/internal/synth"
+)
+
+func writeAthlete(t *testing.T, dir, name string, prog synth.Progression, weeks int, seed uint64) {
+	t.Helper()
+	files := synth.Season(name, time.Date(2026, 3, 2, 0, 0, 0, 0, time.UTC), weeks, prog, seed)
+	if err := synth.WriteSeason(dir, files); err != nil {
+		t.Fatal(err)
+	}
+}
+
+type seasonJS struct {
+	Windows []struct {
+		From, To   string
+		Rides      int      `json:"rides"`
+		Estimated  bool     `json:"estimated"`
+		CPW        *float64 `json:"cp_w"`
+		WPrimeJ    *float64 `json:"w_prime_j"`
+		PmaxW      *float64 `json:"pmax_w"`
+		ThresholdW *float64 `json:"threshold_w"`
+		Confidence *string  `json:"confidence"`
+	} `json:"windows"`
+	Changes []struct {
+		Component string  `json:"component"`
+		Delta     float64 `json:"delta"`
+	} `json:"changes"`
+}
+
+func TestSeasonJSONBlock(t *testing.T) {
+	dir := t.TempDir()
+	base := synth.Athlete{CPW: 250, WPrimeJ: 22000, PmaxW: 1000}
+	writeAthlete(t, dir, "me", synth.Block(base, 25, 4000), 16, 1)
+	plot := filepath.Join(t.TempDir(), "season.png")
+	code, out, _ := runCmd(t, "season", filepath.Join(dir, "me"), "--json", "--plot", plot)
+	if code != exitOK {
+		t.Fatalf("exit %d", code)
+	}
+	var js seasonJS
+	if err := json.Unmarshal([]byte(out), &js); err != nil {
+		t.Fatal(err)
+	}
+	first, last := js.Windows[0], js.Windows[len(js.Windows)-1]
+	if !first.Estimated || !last.Estimated || first.CPW == nil || last.PmaxW == nil || last.ThresholdW == nil || last.Confidence == nil {
+		t.Fatalf("windows %+v … %+v", first, last)
+	}
+	if math.Abs(*first.CPW-250) > 0.03*250 || math.Abs(*last.CPW-275) > 0.03*275 {
+		t.Errorf("CP %.1f → %.1f, invented 250 → 275", *first.CPW, *last.CPW)
+	}
+	up, down := false, false
+	for _, c := range js.Changes {
+		up = up || (c.Component == "cp" && c.Delta > 0)
+		down = down || (c.Component == "w_prime" && c.Delta < 0)
+		if c.Component == "cp" && c.Delta < 0 {
+			t.Errorf("CP fall reported: %+v", c)
+		}
+	}
+	if !up || !down {
+		t.Errorf("changes %+v", js.Changes)
+	}
+	if st, err := os.Stat(plot); err != nil || st.Size() < 10000 {
+		t.Errorf("plot: %v", err)
+	}
+}
+
+// A coach's folder of three invented athletes: one row each.
+func TestSquadFolder(t *testing.T) {
+	dir := t.TempDir()
+	steady := func(a synth.Athlete) synth.Progression { return func(int) synth.Athlete { return a } }
+	writeAthlete(t, dir, "ana", steady(synth.Athlete{CPW: 240, WPrimeJ: 18000, PmaxW: 900}), 10, 1)
+	writeAthlete(t, dir, "ben", synth.Block(synth.Athlete{CPW: 300, WPrimeJ: 22000, PmaxW: 1200}, 25, 3000), 14, 2)
+	writeAthlete(t, dir, "cai", steady(synth.Athlete{CPW: 200, WPrimeJ: 15000, PmaxW: 800}), 8, 3)
+	code, out, _ := runCmd(t, "season", dir)
+	if code != exitOK {
+		t.Fatalf("exit %d\n%s", code, out)
+	}
+	lines := 0
+	for _, name := range []string{"ana", "ben", "cai"} {
+		for _, l := range strings.Split(out, "\n") {
+			if strings.HasPrefix(l, name+" ") {
+				lines++
+			}
+		}
+	}
+	if lines != 3 {
+		t.Errorf("%d athlete rows:\n%s", lines, out)
+	}
+	code, out, _ = runCmd(t, "season", dir, "--json")
+	var js struct {
+		Athletes []struct {
+			Athlete   string `json:"athlete"`
+			Rides     int    `json:"rides"`
+			LastRide  string `json:"last_ride"`
+			Threshold *struct {
+				Watts float64 `json:"watts"`
+			} `json:"threshold"`
+			Change *float64 `json:"cp_change_6w_w"`
+			Sig    bool     `json:"cp_change_significant"`
+		} `json:"athletes"`
+	}
+	if err := json.Unmarshal([]byte(out), &js); err != nil || code != exitOK {
+		t.Fatal(err, code)
+	}
+	want := map[string]float64{"ana": 240, "ben": 325, "cai": 200}
+	for _, a := range js.Athletes {
+		if a.Threshold == nil || math.Abs(a.Threshold.Watts-want[a.Athlete]) > 0.03*want[a.Athlete] || a.Rides == 0 || a.LastRide == "" {
+			t.Errorf("%+v", a)
+		}
+		if a.Athlete == "ana" && a.Sig {
+			t.Errorf("ana is steady but a significant change was reported: %+v", a)
+		}
+	}
+	if len(js.Athletes) != 3 {
+		t.Errorf("%d athletes", len(js.Athletes))
+	}
+	if code, out, _ := runCmd(t, "season", dir, "--athlete", "ben"); code != exitOK || !strings.Contains(out, "CP rose") {
+		t.Errorf("ben's season: exit %d\n%s", code, out)
+	}
+	if code, _, _ := runCmd(t, "season", dir, "--athlete", "zed"); code != exitUsage {
+		t.Errorf("unknown athlete: exit %d", code)
+	}
+}

@@ -1,0 +1,143 @@
+package main
+
+import (
+	"fmt"
+	"image/color"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"github.com/sustain-cycling/sustain/estimate"
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+	"gonum.org/v1/plot/vg/vgsvg"
+)
+
+// gradeMark: a filled disc for high, a triangle for medium, a ring for low.
+func gradeMark(conf string, ink color.Color) draw.GlyphStyle {
+	g := draw.GlyphStyle{Color: ink, Radius: vg.Points(3.5), Shape: draw.RingGlyph{}}
+	switch conf {
+	case estimate.High:
+		g.Shape = draw.CircleGlyph{}
+	case estimate.Medium:
+		g.Shape = draw.TriangleGlyph{}
+	}
+	return g
+}
+
+// dateTicks labels a time axis (Unix seconds) with dates.
+type dateTicks struct{}
+
+func (dateTicks) Ticks(lo, hi float64) []plot.Tick {
+	ts := plot.DefaultTicks{}.Ticks(lo, hi)
+	for i := range ts {
+		if ts[i].Label != "" {
+			ts[i].Label = time.Unix(int64(ts[i].Value), 0).UTC().Format("Jan 2")
+		}
+	}
+	return ts
+}
+
+func plotSeason(path string, rep estimate.SeasonReport, title string) error {
+	type series struct {
+		name  string
+		ink   color.Color
+		value func(estimate.SeasonWindow) (float64, float64)
+	}
+	all := []series{
+		{"CP (W)", inkMain, func(w estimate.SeasonWindow) (float64, float64) { return w.CPW, w.CPSEW }},
+		{"W′ (kJ)", inkCompare, func(w estimate.SeasonWindow) (float64, float64) { return w.WPrimeJ / 1000, w.WPrimeSEJ / 1000 }},
+		{"Pmax (W)", inkModel[1], func(w estimate.SeasonWindow) (float64, float64) { return w.PmaxW, w.PmaxSEW }},
+	}
+	var plots [][]*plot.Plot
+	for k, s := range all {
+		p := plot.New()
+		if k == 0 {
+			p.Title.Text = title
+		}
+		p.Y.Label.Text = s.name
+		p.X.Tick.Marker = dateTicks{}
+		p.Y.Tick.Marker = wholeTicks{}
+		p.Add(&plotter.Grid{Vertical: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)},
+			Horizontal: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)}})
+		var line plotter.XYs
+		type mark struct {
+			xy  plotter.XYs
+			err plotter.YErrors
+		}
+		byGrade := map[string]*mark{}
+		for _, w := range rep.Windows {
+			v, se := s.value(w)
+			if !w.Estimated || v <= 0 {
+				continue
+			}
+			end, _ := time.Parse("2006-01-02", w.To)
+			x := float64(end.Unix())
+			line = append(line, plotter.XY{X: x, Y: v})
+			m := byGrade[w.Confidence]
+			if m == nil {
+				m = &mark{}
+				byGrade[w.Confidence] = m
+			}
+			m.xy = append(m.xy, plotter.XY{X: x, Y: v})
+			m.err = append(m.err, struct{ Low, High float64 }{1.96 * se, 1.96 * se})
+		}
+		if len(line) == 0 {
+			p.Title.Text += fmt.Sprintf("   (%s: no window with enough data)", strings.TrimSuffix(s.name, " (W)"))
+		} else {
+			l, err := plotter.NewLine(line)
+			if err != nil {
+				return err
+			}
+			l.Color, l.Width = s.ink, vg.Points(1.2)
+			p.Add(l)
+		}
+		for _, g := range []string{estimate.High, estimate.Medium, estimate.Low} {
+			m := byGrade[g]
+			if m == nil {
+				continue
+			}
+			sc, err := plotter.NewScatter(m.xy)
+			if err != nil {
+				return err
+			}
+			sc.GlyphStyle = gradeMark(g, s.ink)
+			eb := &plotter.YErrorBars{XYs: m.xy, YErrors: m.err, LineStyle: draw.LineStyle{Color: s.ink, Width: vg.Points(0.8)}, CapWidth: vg.Points(4)}
+			p.Add(eb, sc)
+			if k == 0 {
+				p.Legend.Add(g+" confidence (bars: 95 % range)", sc)
+			}
+		}
+		p.Legend.Top, p.Legend.Left = false, false // the lower right: clear of a rising line
+		if k == len(all)-1 {
+			p.X.Label.Text = "end of window"
+		}
+		plots = append(plots, []*plot.Plot{p})
+	}
+	width, height := 22*vg.Centimeter, 22*vg.Centimeter
+	var canvas vg.CanvasWriterTo
+	switch strings.ToLower(filepath.Ext(path)) {
+	case ".svg":
+		canvas = vgsvg.New(width, height)
+	default:
+		canvas = vgimg.PngCanvas{Canvas: vgimg.New(width, height)}
+	}
+	tiles := draw.Tiles{Rows: 3, Cols: 1, PadTop: vg.Points(4), PadBottom: vg.Points(4), PadX: vg.Points(4), PadY: vg.Points(8)}
+	canvases := plot.Align(plots, tiles, draw.New(canvas))
+	for i := range plots {
+		plots[i][0].Draw(canvases[i][0])
+	}
+	f, err := os.Create(path)
+	if err != nil {
+		return err
+	}
+	if _, err := canvas.WriteTo(f); err != nil {
+		f.Close()
+		return err
+	}
+	return f.Close()
+}
