@@ -23,6 +23,9 @@ type Skipped struct {
 type Result struct {
 	Rides   []Ride
 	Skipped []Skipped
+	// Read, when above len(Rides), is how many rides were read before a
+	// caller filtered Rides.
+	Read int
 }
 
 // Scan reads every ride under paths. A path may be a file (read whatever its

@@ -16,11 +16,15 @@ func inspectCommand() *cli.Command {
 		Name:      "inspect",
 		Usage:     "read ride files and report, per ride, what was recorded and what cleaning had to do",
 		ArgsUsage: "PATH...",
-		Flags:     ingestFlags(),
+		Flags: append(ingestFlags(),
+			&cli.BoolFlag{Name: "problems", Usage: "list only the rides that cleaning had to repair or that look suspect"}),
 		Action: func(c *cli.Context) error {
 			res, err := scan(c)
 			if err != nil {
 				return err
+			}
+			if c.Bool("problems") {
+				res = onlyProblems(res)
 			}
 			if c.Bool("json") {
 				if err := writeJSON(c.App.Writer, inspectJSON(res)); err != nil {
@@ -50,7 +54,7 @@ type inspectOut struct {
 }
 
 func inspectJSON(res ingest.Result) inspectOut {
-	out := inspectOut{Rides: len(res.Rides), Skipped: res.Skipped, Quality: []rideReport{}}
+	out := inspectOut{Rides: max(len(res.Rides), res.Read), Skipped: res.Skipped, Quality: []rideReport{}}
 	if out.Skipped == nil {
 		out.Skipped = []ingest.Skipped{}
 	}
@@ -61,6 +65,19 @@ func inspectJSON(res ingest.Result) inspectOut {
 		})
 	}
 	return out
+}
+
+// onlyProblems keeps the rides whose quality report shows anything amiss;
+// Rides still counts every ride read.
+func onlyProblems(res ingest.Result) ingest.Result {
+	var keep []ingest.Ride
+	for _, r := range res.Rides {
+		q := r.Quality
+		if len(q.Gaps)+len(q.Dropouts)+len(q.StuckRuns)+q.SpikesRemoved+q.InvalidValues+q.TimeReversals > 0 || q.Truncated || q.Salvaged {
+			keep = append(keep, r)
+		}
+	}
+	return ingest.Result{Rides: keep, Skipped: res.Skipped, Read: len(res.Rides)}
 }
 
 func writeJSON(w io.Writer, v any) error {
@@ -107,7 +124,11 @@ func renderInspect(w io.Writer, res ingest.Result) {
 		fmt.Fprintln(w)
 	}
 	reportSkipped(w, res.Skipped)
-	fmt.Fprintf(w, "%d rides read, %d files skipped\n", len(res.Rides), len(res.Skipped))
+	if res.Read > len(res.Rides) {
+		fmt.Fprintf(w, "%d rides read (%d with problems listed), %d files skipped\n", res.Read, len(res.Rides), len(res.Skipped))
+	} else {
+		fmt.Fprintf(w, "%d rides read, %d files skipped\n", len(res.Rides), len(res.Skipped))
+	}
 }
 
 // clock formats seconds as h:mm:ss.
