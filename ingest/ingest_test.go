@@ -268,3 +268,28 @@ func listTree(t *testing.T, dir string) string {
 	})
 	return b.String()
 }
+
+// A multisport FIT file: a ride, a run, a ride. Each cycling session is a
+// ride of its own; the run is kept only with AnySport.
+func TestFITSessions(t *testing.T) {
+	ride1 := synth.Build(start, []synth.Segment{{Seconds: 600, Watts: 200}}, 10, 1)
+	run := synth.Build(start.Add(15*time.Minute), []synth.Segment{{Seconds: 300, Watts: 250}}, 10, 2)
+	run.Sport = "running"
+	ride2 := synth.Build(start.Add(30*time.Minute), []synth.Segment{{Seconds: 900, Watts: 180}}, 10, 3)
+	var buf bytes.Buffer
+	if err := synth.WriteFITSessions(&buf, ride1, run, ride2); err != nil {
+		t.Fatal(err)
+	}
+	rides, err := ingest.Read(bytes.NewReader(buf.Bytes()), "multi.fit", time.Time{}, ingest.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rides) != 2 || rides[0].Seconds() != 600 || rides[1].Seconds() != 900 || rides[1].Session != 2 ||
+		!rides[1].Start.Equal(ride2.Start) || rides[0].PowerW[10] != ride1.PowerW[10] {
+		t.Fatalf("%d rides: %+v", len(rides), rides)
+	}
+	rides, _ = ingest.Read(bytes.NewReader(buf.Bytes()), "multi.fit", time.Time{}, ingest.Options{AnySport: true})
+	if len(rides) != 3 || rides[1].Sport != "running" {
+		t.Fatalf("any sport: %d rides", len(rides))
+	}
+}

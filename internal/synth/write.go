@@ -22,45 +22,55 @@ func at(v []float64, i int) float64 {
 }
 
 // WriteFIT writes the track as a FIT activity file with one session.
-func WriteFIT(w io.Writer, t Track) error {
+func WriteFIT(w io.Writer, t Track) error { return WriteFITSessions(w, t) }
+
+// WriteFITSessions writes one FIT activity file with a session per track
+// (a multisport file: a ride, then a run, …).
+func WriteFITSessions(w io.Writer, tracks ...Track) error {
+	if len(tracks) == 0 {
+		return fmt.Errorf("no track to write")
+	}
 	h := fit.NewHeader(fit.V20, false)
 	f, err := fit.NewFile(fit.FileTypeActivity, h)
 	if err != nil {
 		return err
 	}
-	f.FileId.TimeCreated = t.Start
+	f.FileId.TimeCreated = tracks[0].Start
 	f.FileId.Manufacturer = fit.ManufacturerDevelopment
 	act, err := f.Activity()
 	if err != nil {
 		return err
 	}
-	for i, p := range t.PowerW {
-		if t.skipped(i) {
-			continue
+	var end time.Time
+	for _, t := range tracks {
+		for i, p := range t.PowerW {
+			if t.skipped(i) {
+				continue
+			}
+			r := fit.NewRecordMsg()
+			r.Timestamp = t.Start.Add(time.Duration(i) * time.Second)
+			if !math.IsNaN(p) && p >= 0 && p < 0xFFFF {
+				r.Power = uint16(math.Round(p))
+			}
+			if h := at(t.HeartRateBPM, i); h > 0 && h < 255 {
+				r.HeartRate = uint8(h)
+			}
+			if c := at(t.CadenceRPM, i); c >= 0 && c < 255 {
+				r.Cadence = uint8(c)
+			}
+			act.Records = append(act.Records, r)
 		}
-		r := fit.NewRecordMsg()
-		r.Timestamp = t.Start.Add(time.Duration(i) * time.Second)
-		if !math.IsNaN(p) && p >= 0 && p < 0xFFFF {
-			r.Power = uint16(math.Round(p))
-		}
-		if h := at(t.HeartRateBPM, i); h > 0 && h < 255 {
-			r.HeartRate = uint8(h)
-		}
-		if c := at(t.CadenceRPM, i); c >= 0 && c < 255 {
-			r.Cadence = uint8(c)
-		}
-		act.Records = append(act.Records, r)
+		end = t.Start.Add(time.Duration(len(t.PowerW)-1) * time.Second)
+		s := fit.NewSessionMsg()
+		s.StartTime = t.Start
+		s.Timestamp = end
+		s.Sport = fitSport(t.Sport)
+		s.TotalElapsedTime = uint32(len(t.PowerW) * 1000)
+		act.Sessions = append(act.Sessions, s)
 	}
-	end := t.Start.Add(time.Duration(len(t.PowerW)-1) * time.Second)
-	s := fit.NewSessionMsg()
-	s.StartTime = t.Start
-	s.Timestamp = end
-	s.Sport = fitSport(t.Sport)
-	s.TotalElapsedTime = uint32(len(t.PowerW) * 1000)
-	act.Sessions = append(act.Sessions, s)
 	a := fit.NewActivityMsg()
 	a.Timestamp = end
-	a.NumSessions = 1
+	a.NumSessions = uint16(len(tracks))
 	act.Activity = a
 	return fit.Encode(w, f, binary.LittleEndian)
 }
