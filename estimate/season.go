@@ -3,6 +3,7 @@ package estimate
 import (
 	"fmt"
 	"math"
+	"strings"
 	"time"
 
 	"github.com/sustain-cycling/sustain/ingest"
@@ -119,7 +120,7 @@ func seasonWindow(r Report, model string) SeasonWindow {
 	case f == nil:
 		sw.Reason = fmt.Sprintf("%s could not be fitted: %s", model, r.Failed[model])
 	case f.Confidence == Low:
-		sw.Reason = "too uncertain: " + joinReasons(f.Reasons)
+		sw.Reason = "too uncertain: " + strings.Join(f.Reasons, "; ")
 	}
 	if sw.Reason != "" {
 		return sw
@@ -129,17 +130,6 @@ func seasonWindow(r Report, model string) SeasonWindow {
 	sw.PmaxW, sw.PmaxSEW = f.PmaxW, f.PmaxSEW
 	sw.Confidence = f.Confidence
 	return sw
-}
-
-func joinReasons(rs []string) string {
-	s := ""
-	for i, r := range rs {
-		if i > 0 {
-			s += "; "
-		}
-		s += r
-	}
-	return s
 }
 
 func hasCode(ws []Warning, code string) bool {

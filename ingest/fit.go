@@ -83,18 +83,14 @@ func decodeFIT(r io.Reader, opts Options) ([]Ride, error) {
 		return nil, errors.New("FIT activity has no records")
 	}
 
-	type part struct {
-		sport   string
-		samples []Sample
-	}
-	var parts []part
+	var parts []session
 	sessions := act.Sessions
 	if len(sessions) <= 1 {
 		sport := "unknown"
 		if len(sessions) == 1 {
 			sport = fitSport(sessions[0].Sport)
 		}
-		parts = []part{{sport, samples}}
+		parts = []session{{sport, samples}}
 	} else {
 		for _, s := range sessions {
 			a, b := s.StartTime.Unix(), s.Timestamp.Unix()
@@ -105,46 +101,26 @@ func decodeFIT(r io.Reader, opts Options) ([]Ride, error) {
 				}
 			}
 			if len(in) > 0 {
-				parts = append(parts, part{fitSport(s.Sport), in})
+				parts = append(parts, session{fitSport(s.Sport), in})
 			}
 		}
 		if len(parts) == 0 { // sessions without usable times
-			parts = []part{{fitSport(sessions[0].Sport), samples}}
+			parts = []session{{fitSport(sessions[0].Sport), samples}}
 		}
 	}
 
-	var rides []Ride
-	var reasons []string
-	for i, p := range parts {
-		if !sportAccepted(p.sport, opts) {
-			reasons = append(reasons, sessionReason(i, len(parts), fmt.Sprintf("sport is %s, not cycling (--sport any keeps it)", p.sport)))
-			continue
-		}
-		ride, err := Clean(p.samples, opts.SpikeCeilingW, loc)
-		if err != nil {
-			reasons = append(reasons, sessionReason(i, len(parts), err.Error()))
-			continue
-		}
-		ride.Session = i
-		ride.Sport = p.sport
-		ride.Quality.Truncated = truncated
-		ride.Quality.Salvaged = salvaged
-		if p.sport == "unknown" {
-			ride.Quality.Notes = append(ride.Quality.Notes, "sport not recorded; read as cycling")
-		}
-		rides = append(rides, ride)
+	rides, err := cleanSessions(parts, opts, loc)
+	if err != nil {
+		return nil, err
 	}
-	if len(rides) == 0 {
-		return nil, errors.New(strings.Join(reasons, "; "))
+	for i := range rides {
+		rides[i].Quality.Truncated = truncated
+		rides[i].Quality.Salvaged = salvaged
+		if rides[i].Sport == "unknown" {
+			rides[i].Quality.Notes = append(rides[i].Quality.Notes, "sport not recorded; read as cycling")
+		}
 	}
 	return rides, nil
-}
-
-func sessionReason(i, n int, reason string) string {
-	if n == 1 {
-		return reason
-	}
-	return fmt.Sprintf("session %d: %s", i+1, reason)
 }
 
 func fitSport(s fit.Sport) string {
@@ -155,10 +131,4 @@ func fitSport(s fit.Sport) string {
 		return "unknown"
 	}
 	return strings.ToLower(s.String())
-}
-
-// sportAccepted keeps cycling and rides whose sport was not recorded; other
-// sports only with opts.AnySport.
-func sportAccepted(sport string, opts Options) bool {
-	return opts.AnySport || sport == "cycling" || sport == "unknown"
 }

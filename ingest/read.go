@@ -216,3 +216,51 @@ func IsRideName(name string) bool {
 	}
 	return false
 }
+
+// session is one recorded session of a file (a FIT session, a TCX
+// activity) before cleaning.
+type session struct {
+	sport   string
+	samples []Sample
+}
+
+// cleanSessions cleans every session whose sport is accepted into a ride.
+// When none is left the error gives each session's reason.
+func cleanSessions(parts []session, opts Options, loc *time.Location) ([]Ride, error) {
+	var rides []Ride
+	var reasons []string
+	why := func(i int, reason string) {
+		if len(parts) > 1 {
+			reason = fmt.Sprintf("session %d: %s", i+1, reason)
+		}
+		reasons = append(reasons, reason)
+	}
+	for i, p := range parts {
+		if !sportAccepted(p.sport, opts) {
+			why(i, fmt.Sprintf("sport is %s, not cycling (--sport any keeps it)", p.sport))
+			continue
+		}
+		if len(p.samples) == 0 {
+			why(i, "no samples with a time")
+			continue
+		}
+		ride, err := Clean(p.samples, opts.SpikeCeilingW, loc)
+		if err != nil {
+			why(i, err.Error())
+			continue
+		}
+		ride.Session = i
+		ride.Sport = p.sport
+		rides = append(rides, ride)
+	}
+	if len(rides) == 0 {
+		return nil, errors.New(strings.Join(reasons, "; "))
+	}
+	return rides, nil
+}
+
+// sportAccepted keeps cycling and rides whose sport was not recorded; other
+// sports only with opts.AnySport.
+func sportAccepted(sport string, opts Options) bool {
+	return opts.AnySport || sport == "cycling" || sport == "unknown"
+}

@@ -18,13 +18,9 @@ func decodeTCX(r io.Reader, opts Options) ([]Ride, error) {
 	d := xml.NewDecoder(r)
 	d.Strict = true
 
-	type activity struct {
-		sport   string
-		samples []Sample
-	}
 	var (
-		acts     []activity
-		cur      *activity
+		acts     []session
+		cur      *session
 		inPoint  bool
 		pt       Sample
 		ptTime   bool
@@ -52,7 +48,7 @@ func decodeTCX(r io.Reader, opts Options) ([]Ride, error) {
 			case "TrainingCenterDatabase":
 				sawTCX = true
 			case "Activity":
-				acts = append(acts, activity{sport: "unknown"})
+				acts = append(acts, session{sport: "unknown"})
 				cur = &acts[len(acts)-1]
 				for _, a := range t.Attr {
 					if a.Name.Local == "Sport" {
@@ -107,7 +103,7 @@ func decodeTCX(r io.Reader, opts Options) ([]Ride, error) {
 				inPoint = false
 				if ptTime {
 					if cur == nil {
-						acts = append(acts, activity{sport: "unknown"})
+						acts = append(acts, session{sport: "unknown"})
 						cur = &acts[len(acts)-1]
 					}
 					cur.samples = append(cur.samples, pt)
@@ -121,32 +117,15 @@ func decodeTCX(r io.Reader, opts Options) ([]Ride, error) {
 	if !sawTCX {
 		return nil, errors.New("XML file is not a TCX (no TrainingCenterDatabase element)")
 	}
-	var rides []Ride
-	var reasons []string
-	for i, a := range acts {
-		if !sportAccepted(a.sport, opts) {
-			reasons = append(reasons, sessionReason(i, len(acts), fmt.Sprintf("sport is %s, not cycling (--sport any keeps it)", a.sport)))
-			continue
-		}
-		if len(a.samples) == 0 {
-			reasons = append(reasons, sessionReason(i, len(acts), "no trackpoints with a time"))
-			continue
-		}
-		ride, err := Clean(a.samples, opts.SpikeCeilingW, loc)
-		if err != nil {
-			reasons = append(reasons, sessionReason(i, len(acts), err.Error()))
-			continue
-		}
-		ride.Session = i
-		ride.Sport = a.sport
-		ride.Quality.Salvaged = decodeEr != nil
-		rides = append(rides, ride)
+	if len(acts) == 0 {
+		return nil, errors.New("TCX file has no activity")
 	}
-	if len(rides) == 0 {
-		if len(reasons) == 0 {
-			return nil, errors.New("TCX file has no activity")
-		}
-		return nil, errors.New(strings.Join(reasons, "; "))
+	rides, err := cleanSessions(acts, opts, loc)
+	if err != nil {
+		return nil, err
+	}
+	for i := range rides {
+		rides[i].Quality.Salvaged = decodeEr != nil
 	}
 	return rides, nil
 }

@@ -92,11 +92,8 @@ func curveAction(c *cli.Context) error {
 	if n := countTrue(c.Bool("json"), c.Bool("csv"), c.Bool("per-ride")); n > 1 {
 		return usageError{"choose one of --json, --csv and --per-ride"}
 	}
-	if c.Float64("mass") < 0 || (c.IsSet("mass") && c.Float64("mass") == 0) {
-		return usageError{"--mass must be above 0 kg"}
-	}
-	if p := c.String("plot"); p != "" && !isPlotName(p) {
-		return usageError{"--plot takes a file name ending in .png or .svg"}
+	if err := checkMassAndPlot(c); err != nil {
+		return err
 	}
 	res, err := scan(c)
 	if err != nil {
@@ -178,6 +175,18 @@ func orOpen(d string) string {
 		return "(open)"
 	}
 	return d
+}
+
+// checkMassAndPlot checks --mass (above 0 kg when given) and --plot (a
+// .png or .svg name).
+func checkMassAndPlot(c *cli.Context) error {
+	if c.IsSet("mass") && !(c.Float64("mass") > 0) {
+		return usageError{"--mass must be above 0 kg"}
+	}
+	if p := c.String("plot"); p != "" && !isPlotName(p) {
+		return usageError{"--plot takes a file name ending in .png or .svg"}
+	}
+	return nil
 }
 
 func isPlotName(p string) bool {

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"strings"
 	"time"
 
 	"github.com/sustain-cycling/sustain/internal/synth"
@@ -62,7 +63,7 @@ func demoAction(c *cli.Context) error {
 		{"season", rides, "--plot", seasonPlot},
 	}
 	for _, args := range steps {
-		fmt.Fprintf(w, "\n$ sustain %s\n", joinArgs(args))
+		fmt.Fprintf(w, "\n$ sustain %s\n", strings.Join(args, " "))
 		app := newApp(w, c.App.ErrWriter)
 		if err := app.Run(interspersed(app, append([]string{"sustain"}, args...))); err != nil {
 			return fmt.Errorf("demo step %q: %w", args[0], err)
@@ -71,15 +72,4 @@ func demoAction(c *cli.Context) error {
 	fmt.Fprintf(w, "\nPlots: %s, %s, %s\n", curvePlot, estPlot, seasonPlot)
 	fmt.Fprintf(w, "Everything above is invented data. Point the same commands at your own ride folder to analyse your season.\n")
 	return nil
-}
-
-func joinArgs(args []string) string {
-	s := ""
-	for i, a := range args {
-		if i > 0 {
-			s += " "
-		}
-		s += a
-	}
-	return s
 }

@@ -93,11 +93,8 @@ func estimateAction(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
-	if c.Float64("mass") < 0 || (c.IsSet("mass") && c.Float64("mass") == 0) {
-		return usageError{"--mass must be above 0 kg"}
-	}
-	if p := c.String("plot"); p != "" && !isPlotName(p) {
-		return usageError{"--plot takes a file name ending in .png or .svg"}
+	if err := checkMassAndPlot(c); err != nil {
+		return err
 	}
 	res, err := scan(c)
 	if err != nil {

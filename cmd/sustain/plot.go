@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"image/color"
 	"math"
+	"time"
 
 	"github.com/sustain-cycling/sustain/estimate"
 	"github.com/sustain-cycling/sustain/powerduration"
@@ -53,18 +54,24 @@ func curveXYs(ps []powerduration.Point) plotter.XYs {
 	return xy
 }
 
-// wholeTicks labels a linear axis in whole numbers.
-type wholeTicks struct{}
+// relabelled places ticks as gonum does and writes the labelled ones with label.
+type relabelled func(v float64) string
 
-func (wholeTicks) Ticks(lo, hi float64) []plot.Tick {
+func (label relabelled) Ticks(lo, hi float64) []plot.Tick {
 	ts := plot.DefaultTicks{}.Ticks(lo, hi)
 	for i := range ts {
 		if ts[i].Label != "" {
-			ts[i].Label = fmt.Sprintf("%.0f", ts[i].Value)
+			ts[i].Label = label(ts[i].Value)
 		}
 	}
 	return ts
 }
+
+// wholeTicks labels a linear axis in whole numbers.
+var wholeTicks = relabelled(func(v float64) string { return fmt.Sprintf("%.0f", v) })
+
+// dateTicks labels a time axis (Unix seconds) with dates.
+var dateTicks = relabelled(func(v float64) string { return time.Unix(int64(v), 0).UTC().Format("Jan 2") })
 
 // newCurvePlot is an empty power-duration plot: log time, watts.
 func newCurvePlot(title string) *plot.Plot {
@@ -75,7 +82,7 @@ func newCurvePlot(title string) *plot.Plot {
 	p.X.Scale = plot.LogScale{}
 	p.X.Tick.Marker = timeTicks{}
 	p.Y.Min = 0
-	p.Y.Tick.Marker = wholeTicks{}
+	p.Y.Tick.Marker = wholeTicks
 	p.Legend.Top = true
 	p.Add(&plotter.Grid{Vertical: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)},
 		Horizontal: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)}})

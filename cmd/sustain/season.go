@@ -58,8 +58,8 @@ func seasonAction(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
-	if p := c.String("plot"); p != "" && !isPlotName(p) {
-		return usageError{"--plot takes a file name ending in .png or .svg"}
+	if err := checkMassAndPlot(c); err != nil {
+		return err
 	}
 	if c.NArg() == 1 {
 		if names, ok := ingest.Squad(c.Args().First()); ok {

@@ -29,19 +29,6 @@ func gradeMark(conf string, ink color.Color) draw.GlyphStyle {
 	return g
 }
 
-// dateTicks labels a time axis (Unix seconds) with dates.
-type dateTicks struct{}
-
-func (dateTicks) Ticks(lo, hi float64) []plot.Tick {
-	ts := plot.DefaultTicks{}.Ticks(lo, hi)
-	for i := range ts {
-		if ts[i].Label != "" {
-			ts[i].Label = time.Unix(int64(ts[i].Value), 0).UTC().Format("Jan 2")
-		}
-	}
-	return ts
-}
-
 func plotSeason(path string, rep estimate.SeasonReport, title string) error {
 	type series struct {
 		name  string
@@ -60,8 +47,8 @@ func plotSeason(path string, rep estimate.SeasonReport, title string) error {
 			p.Title.Text = title
 		}
 		p.Y.Label.Text = s.name
-		p.X.Tick.Marker = dateTicks{}
-		p.Y.Tick.Marker = wholeTicks{}
+		p.X.Tick.Marker = dateTicks
+		p.Y.Tick.Marker = wholeTicks
 		p.Add(&plotter.Grid{Vertical: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)},
 			Horizontal: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)}})
 		var line plotter.XYs
