@@ -72,13 +72,12 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 	}
 	n := int(math.Floor(last-origin)) + 1
 
+	// Power is averaged per second (rule 2); heart rate and cadence, which
+	// the cleaning policy does not cover, keep the second's last value.
 	power := make([]float64, n)
 	count := make([]int32, n)
-	hr := make([]float64, n)
-	cad := make([]float64, n)
-	hrN := make([]int32, n)
-	cadN := make([]int32, n)
-	spikeBins := map[int]bool{}
+	hrcad := make([]uint8, 2*n)
+	hr, cad := hrcad[:n:n], hrcad[n:]
 	for _, s := range samples {
 		b := int(s.UnixS - origin)
 		p := s.Power
@@ -89,18 +88,16 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 			q.InvalidValues++
 		case p > spikeCeilingW:
 			q.SpikesRemoved++
-			spikeBins[b] = true
+			q.SpikeOffsetsS = append(q.SpikeOffsetsS, b)
 		default:
 			power[b] += p
 			count[b]++
 		}
-		if h := s.HeartRate; h > 0 && h < 300 {
-			hr[b] += h
-			hrN[b]++
+		if h := s.HeartRate; h > 0 && h < 256 {
+			hr[b] = uint8(math.Round(h))
 		}
-		if c := s.Cadence; c >= 0 && c < 300 {
-			cad[b] += c
-			cadN[b]++
+		if c := s.Cadence; c >= 0 && c < 256 {
+			cad[b] = uint8(math.Round(c))
 		}
 	}
 	valid := 0
@@ -109,22 +106,14 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 			power[i] /= float64(count[i])
 			valid++
 		}
-		if hrN[i] > 0 {
-			hr[i] /= float64(hrN[i])
-		}
-		if cadN[i] > 0 {
-			cad[i] /= float64(cadN[i])
-		}
 	}
 	if valid == 0 {
 		return Ride{}, ErrNoPower
 	}
 	q.Seconds = n
 	q.PowerCoverage = float64(valid) / float64(n)
-	for b := range spikeBins {
-		q.SpikeOffsetsS = append(q.SpikeOffsetsS, b)
-	}
 	slices.Sort(q.SpikeOffsetsS)
+	q.SpikeOffsetsS = slices.Compact(q.SpikeOffsetsS)
 
 	// Missing runs: short ones between valid seconds are interpolated,
 	// everything else is 0 W.
@@ -180,12 +169,19 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 // recordingInterval returns the most common positive step between
 // consecutive samples, to the millisecond.
 func recordingInterval(samples []Sample) float64 {
+	ones := 0 // the usual 1-s step, counted without the map
 	counts := map[int64]int{}
 	for i := 1; i < len(samples); i++ {
 		d := samples[i].UnixS - samples[i-1].UnixS
-		if d > 0 {
+		switch {
+		case d == 1:
+			ones++
+		case d > 0:
 			counts[int64(math.Round(d*1000))]++
 		}
+	}
+	if ones > 0 {
+		counts[1000] += ones
 	}
 	best, bestN := int64(0), 0
 	for d, c := range counts {

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strings"
 	"time"
 
@@ -76,6 +77,10 @@ func decodeFIT(r io.Reader, opts Options) ([]Ride, error) {
 		}
 		samples = append(samples, s)
 	}
+	var dropped int
+	if salvaged {
+		samples, dropped = dropWildTimes(samples)
+	}
 	if len(samples) == 0 {
 		if truncated {
 			return nil, errors.New("FIT file cut short before any record")
@@ -116,6 +121,9 @@ func decodeFIT(r io.Reader, opts Options) ([]Ride, error) {
 	for i := range rides {
 		rides[i].Quality.Truncated = truncated
 		rides[i].Quality.Salvaged = salvaged
+		if dropped > 0 {
+			rides[i].Quality.Notes = append(rides[i].Quality.Notes, fmt.Sprintf("%d damaged records with impossible times dropped", dropped))
+		}
 		if rides[i].Sport == "unknown" {
 			rides[i].Quality.Notes = append(rides[i].Quality.Notes, "sport not recorded; read as cycling")
 		}
@@ -131,4 +139,26 @@ func fitSport(s fit.Sport) string {
 		return "unknown"
 	}
 	return strings.ToLower(s.String())
+}
+
+// dropWildTimes keeps the samples within 24 h of the median time: in a
+// damaged file a corrupted timestamp can land years away, and one such
+// record must not make the whole ride unreadable.
+func dropWildTimes(samples []Sample) ([]Sample, int) {
+	if len(samples) == 0 {
+		return samples, 0
+	}
+	times := make([]float64, len(samples))
+	for i, s := range samples {
+		times[i] = s.UnixS
+	}
+	slices.Sort(times)
+	mid := times[len(times)/2]
+	kept := samples[:0]
+	for _, s := range samples {
+		if math.Abs(s.UnixS-mid) <= 24*3600 {
+			kept = append(kept, s)
+		}
+	}
+	return kept, len(samples) - len(kept)
 }

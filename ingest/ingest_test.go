@@ -193,8 +193,8 @@ func TestBadInput(t *testing.T) {
 	}
 	// the damaged file is read with --salvage and flagged
 	r := readOne(t, "d.fit", damaged, ingest.Options{Salvage: true})
-	if !r.Quality.Salvaged {
-		t.Error("salvaged flag not set")
+	if !r.Quality.Salvaged || r.Seconds() != 1200 {
+		t.Errorf("salvaged %v, %d s of 1200", r.Quality.Salvaged, r.Seconds())
 	}
 	// the running session is kept with --sport any
 	r = readOne(t, "run.fit", encode(t, "fit", run), ingest.Options{AnySport: true})

@@ -74,8 +74,8 @@ type Ride struct {
 	Start        time.Time // time of the first sample
 	Sport        string    // "cycling", "running", … or "unknown"
 	PowerW       []Watts
-	HeartRateBPM []float64 // 0 where not recorded
-	CadenceRPM   []float64 // 0 where not recorded
+	HeartRateBPM []uint8 // the second's last recorded value; 0 where none
+	CadenceRPM   []uint8 // the second's last recorded value; 0 where none
 	Quality      Quality
 }
 
