@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"strings"
 	"time"
+
+	"github.com/sustain-cycling/sustain/ingest"
 )
 
 // better reports whether p beats q for the same duration: higher watts; on
@@ -132,4 +134,18 @@ func Newest(curves []Curve) string {
 		}
 	}
 	return newest
+}
+
+// At returns the point for the window of d seconds starting at offset
+// start of the ride: its mean power, with provenance.
+func At(r *ingest.Ride, start, d int) (Point, error) {
+	if d <= 0 || start < 0 || start+d > len(r.PowerW) {
+		return Point{}, fmt.Errorf("%s: a %d-s window from %d s does not fit in the ride's %d s", r.File, d, start, len(r.PowerW))
+	}
+	sum := 0.0
+	for _, p := range r.PowerW[start : start+d] {
+		sum += p
+	}
+	return Point{DurationS: d, Watts: sum / float64(d), File: r.File, Date: r.Date(), OffsetS: start,
+		Session: r.Session, RideStart: r.Start}, nil
 }

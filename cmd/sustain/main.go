@@ -72,6 +72,8 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 			curveCommand(),
 			estimateCommand(),
 			seasonCommand(),
+			compareCommand(),
+			protocolCommand(),
 			demoCommand(),
 		},
 		Action: func(c *cli.Context) error {
@@ -110,6 +112,14 @@ func interspersed(app *cli.App, args []string) []string {
 	}
 	if cmd == nil {
 		return args
+	}
+	// descend into a subcommand ("protocol all-out")
+	for at+1 < len(args) && len(cmd.Subcommands) > 0 {
+		sub := cmd.Command(args[at+1])
+		if sub == nil {
+			break
+		}
+		cmd, at = sub, at+1
 	}
 	takesValue := map[string]bool{}
 	for _, f := range cmd.Flags {

@@ -3,6 +3,7 @@ package main
 import (
 	"fmt"
 	"image/color"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -105,7 +106,11 @@ func plotSeason(path string, rep estimate.SeasonReport, title string) error {
 		}
 		plots = append(plots, []*plot.Plot{p})
 	}
-	width, height := 22*vg.Centimeter, 22*vg.Centimeter
+	return saveTiles(path, []*plot.Plot{plots[0][0], plots[1][0], plots[2][0]}, 22*vg.Centimeter, 22*vg.Centimeter)
+}
+
+// saveTiles draws plots one above the other into a PNG or SVG file.
+func saveTiles(path string, plots []*plot.Plot, width, height vg.Length) error {
 	var canvas vg.CanvasWriterTo
 	switch strings.ToLower(filepath.Ext(path)) {
 	case ".svg":
@@ -113,10 +118,14 @@ func plotSeason(path string, rep estimate.SeasonReport, title string) error {
 	default:
 		canvas = vgimg.PngCanvas{Canvas: vgimg.New(width, height)}
 	}
-	tiles := draw.Tiles{Rows: 3, Cols: 1, PadTop: vg.Points(4), PadBottom: vg.Points(4), PadX: vg.Points(4), PadY: vg.Points(8)}
-	canvases := plot.Align(plots, tiles, draw.New(canvas))
-	for i := range plots {
-		plots[i][0].Draw(canvases[i][0])
+	grid := make([][]*plot.Plot, len(plots))
+	for i, p := range plots {
+		grid[i] = []*plot.Plot{p}
+	}
+	tiles := draw.Tiles{Rows: len(plots), Cols: 1, PadTop: vg.Points(4), PadBottom: vg.Points(4), PadX: vg.Points(4), PadY: vg.Points(8)}
+	canvases := plot.Align(grid, tiles, draw.New(canvas))
+	for i := range grid {
+		grid[i][0].Draw(canvases[i][0])
 	}
 	f, err := os.Create(path)
 	if err != nil {
@@ -127,4 +136,58 @@ func plotSeason(path string, rep estimate.SeasonReport, title string) error {
 		return err
 	}
 	return f.Close()
+}
+
+// plotAgreement draws a Bland–Altman plot for each pair with the first
+// method: each subject's difference against its mean, the bias and the
+// 95 % limits of agreement.
+func plotAgreement(path string, pairs []estimate.PairAgreement, first string) error {
+	var plots []*plot.Plot
+	for _, pa := range pairs {
+		if pa.A != first {
+			continue
+		}
+		p := plot.New()
+		p.Title.Text = fmt.Sprintf("%s − %s: bias %+.1f W, limits %+.1f to %+.1f W (n = %d)", pa.A, pa.B, pa.Bias, pa.LowerL, pa.UpperL, pa.N)
+		p.X.Label.Text = fmt.Sprintf("mean of %s and %s (W)", pa.A, pa.B)
+		p.Y.Label.Text = "difference (W)"
+		p.X.Tick.Marker, p.Y.Tick.Marker = wholeTicks, wholeTicks
+		p.Add(&plotter.Grid{Vertical: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)},
+			Horizontal: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)}})
+		if pa.N < 2 {
+			continue // said in the table; an empty panel shows nothing
+		}
+		var xy plotter.XYs
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for i := range pa.Diffs {
+			xy = append(xy, plotter.XY{X: pa.Means[i], Y: pa.Diffs[i]})
+			lo, hi = math.Min(lo, pa.Means[i]), math.Max(hi, pa.Means[i])
+		}
+		pad := math.Max(5, 0.05*(hi-lo))
+		for _, h := range []struct {
+			y      float64
+			dashed bool
+		}{{pa.Bias, false}, {pa.LowerL, true}, {pa.UpperL, true}} {
+			l, err := plotter.NewLine(plotter.XYs{{X: lo - pad, Y: h.y}, {X: hi + pad, Y: h.y}})
+			if err != nil {
+				return err
+			}
+			l.Color = inkCompare
+			if h.dashed {
+				l.Dashes = []vg.Length{vg.Points(5), vg.Points(3)}
+			}
+			p.Add(l)
+		}
+		sc, err := plotter.NewScatter(xy)
+		if err != nil {
+			return err
+		}
+		sc.GlyphStyle = draw.GlyphStyle{Color: inkMain, Radius: vg.Points(3.5), Shape: draw.CircleGlyph{}}
+		p.Add(sc)
+		plots = append(plots, p)
+	}
+	if len(plots) == 0 {
+		return fmt.Errorf("no pair with %s has 2 or more subjects to plot", first)
+	}
+	return saveTiles(path, plots, 20*vg.Centimeter, vg.Length(len(plots))*7*vg.Centimeter)
 }

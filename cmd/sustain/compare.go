@@ -1,0 +1,241 @@
+package main
+
+import (
+	"encoding/csv"
+	"fmt"
+	"io"
+	"math"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"text/tabwriter"
+	"time"
+
+	"github.com/sustain-cycling/sustain/estimate"
+	"github.com/sustain-cycling/sustain/ingest"
+	"github.com/sustain-cycling/sustain/powerduration"
+	"github.com/urfave/cli/v2"
+)
+
+func compareCommand() *cli.Command {
+	flags := append(ingestFlags(), estimateFlags()...)
+	flags = append(flags,
+		&cli.StringFlag{Name: "methods", Value: strings.Join(estimate.Methods, ","), Usage: "methods to compare: " + strings.Join(estimate.Methods, ", ")},
+		&cli.StringFlag{Name: "window", Value: "90d", Usage: "each athlete's window, ending at their newest ride; for one athlete, the length of each of the consecutive windows compared"},
+		&cli.BoolFlag{Name: "csv", Usage: "print each subject's estimate by each method as CSV rows"},
+		&cli.StringFlag{Name: "plot", Usage: "Bland–Altman plots (difference against mean) of the first method against each other, to FILE.png or FILE.svg"},
+	)
+	return &cli.Command{
+		Name:      "compare",
+		Usage:     "how far apart threshold methods are across a squad (one subfolder per athlete) or across windows of one athlete: bias and limits of agreement",
+		ArgsUsage: "PATH...",
+		Flags:     flags,
+		Action:    compareAction,
+	}
+}
+
+func compareAction(c *cli.Context) error {
+	methods, err := estimate.ParseMethods(c.String("methods"))
+	if err != nil {
+		return usageError{"--methods: " + err.Error()}
+	}
+	days, err := powerduration.ParseDays(c.String("window"))
+	if err != nil {
+		return usageError{"--window: " + err.Error()}
+	}
+	eo, err := estimateOptions(c)
+	if err != nil {
+		return err
+	}
+	if err := checkMassAndPlot(c); err != nil {
+		return err
+	}
+	if c.Bool("json") && c.Bool("csv") {
+		return usageError{"choose one of --json and --csv"}
+	}
+	opts, err := ingestOptions(c)
+	if err != nil {
+		return err
+	}
+	var subjects []estimate.Subject
+	var skipped []ingest.Skipped
+	kind := "windows"
+	if names, ok := squadOf(c); ok {
+		kind = "athletes"
+		dir := c.Args().First()
+		for _, n := range names {
+			res := ingest.Scan([]string{filepath.Join(dir, n)}, opts)
+			skipped = append(skipped, res.Skipped...)
+			if len(res.Rides) == 0 {
+				continue
+			}
+			curves := powerduration.OfRides(res.Rides, opts.Workers)
+			rep := estimate.Estimate(res.Rides, curves, powerduration.LastDays(powerduration.Newest(curves), days), eo)
+			subjects = append(subjects, estimate.Subject{Name: n, Estimates: estimate.ByMethod(rep)})
+		}
+	} else {
+		res, err := scan(c)
+		if err != nil {
+			return err
+		}
+		skipped = res.Skipped
+		curves := powerduration.OfRides(res.Rides, opts.Workers)
+		first := ""
+		if len(res.Rides) > 0 {
+			first = res.Rides[0].Date()
+		}
+		// consecutive windows back from the newest ride, each with rides
+		for end := powerduration.Newest(curves); end != "" && end >= first; {
+			w := powerduration.LastDays(end, days)
+			rep := estimate.Estimate(res.Rides, curves, w, eo)
+			if rep.Rides > 0 {
+				subjects = append([]estimate.Subject{{Name: w.From + "–" + w.To, Estimates: estimate.ByMethod(rep)}}, subjects...)
+			}
+			t, _ := time.Parse("2006-01-02", w.From)
+			end = t.AddDate(0, 0, -1).Format("2006-01-02")
+		}
+	}
+	pairs := estimate.Compare(subjects, methods)
+	w := c.App.Writer
+	switch {
+	case c.Bool("json"):
+		err = writeJSON(w, compareJSON(subjects, pairs, skipped))
+	case c.Bool("csv"):
+		err = writeCompareCSV(w, subjects, methods)
+	default:
+		renderCompare(w, kind, subjects, pairs, methods, skipped)
+	}
+	if err != nil {
+		return err
+	}
+	if p := c.String("plot"); p != "" {
+		if err := plotAgreement(p, pairs, methods[0]); err != nil {
+			return fmt.Errorf("plot %s: %w", p, err)
+		}
+		if !c.Bool("json") && !c.Bool("csv") {
+			fmt.Fprintf(w, "\nplot written to %s\n", p)
+		}
+	}
+	if len(subjects) == 0 {
+		return cli.Exit("no ride could be read", exitNothing)
+	}
+	return nil
+}
+
+// squadOf reports a single folder of athletes among the arguments.
+func squadOf(c *cli.Context) ([]string, bool) {
+	if c.NArg() != 1 {
+		return nil, false
+	}
+	return ingest.Squad(c.Args().First())
+}
+
+type pairJSON struct {
+	A       string   `json:"a"`
+	B       string   `json:"b"`
+	N       int      `json:"n"`
+	BiasW   *float64 `json:"bias_w"`
+	SDW     *float64 `json:"sd_w"`
+	LowerW  *float64 `json:"lower_limit_w"`
+	UpperW  *float64 `json:"upper_limit_w"`
+	R       *float64 `json:"r"`
+	LeftOut []string `json:"left_out"`
+}
+
+// finite returns nil for a number JSON cannot hold.
+func finite(v float64) *float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return &v
+}
+
+func compareJSON(subjects []estimate.Subject, pairs []estimate.PairAgreement, skipped []ingest.Skipped) map[string]any {
+	ps := []pairJSON{}
+	for _, p := range pairs {
+		j := pairJSON{A: p.A, B: p.B, N: p.N, LeftOut: p.LeftOut}
+		if p.N >= 2 {
+			j.BiasW, j.SDW, j.LowerW, j.UpperW, j.R = finite(p.Bias), finite(p.SD), finite(p.LowerL), finite(p.UpperL), finite(p.R)
+		}
+		ps = append(ps, j)
+	}
+	if subjects == nil {
+		subjects = []estimate.Subject{}
+	}
+	return map[string]any{"subjects": subjects, "pairs": ps, "skipped": nonNil(skipped)}
+}
+
+func writeCompareCSV(w io.Writer, subjects []estimate.Subject, methods []string) error {
+	cw := csv.NewWriter(w)
+	cw.Write([]string{"subject", "method", "watts", "confidence"})
+	for _, s := range subjects {
+		for _, m := range methods {
+			if e, ok := s.Estimates[m]; ok {
+				cw.Write([]string{s.Name, m, strconv.FormatFloat(e.Watts, 'f', 1, 64), e.Confidence})
+			}
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+func renderCompare(w io.Writer, kind string, subjects []estimate.Subject, pairs []estimate.PairAgreement, methods []string, skipped []ingest.Skipped) {
+	fmt.Fprintf(w, "Threshold by method (W; grade h/m/l), %d %s\n\n", len(subjects), kind)
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintf(tw, "%s\t%s\t\n", strings.TrimSuffix(kind, "s"), strings.Join(methods, "\t"))
+	for _, s := range subjects {
+		cells := []string{s.Name}
+		for _, m := range methods {
+			if e, ok := s.Estimates[m]; ok {
+				cells = append(cells, fmt.Sprintf("%.0f %c", e.Watts, e.Confidence[0]))
+			} else {
+				cells = append(cells, "-")
+			}
+		}
+		fmt.Fprintln(tw, strings.Join(cells, "\t")+"\t")
+	}
+	tw.Flush()
+	fmt.Fprintln(w, "\nAgreement (Bland & Altman 1986): difference a − b; limits of agreement = bias ± 1.96 SD; estimates graded low left out")
+	tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "a − b\tn\tbias (W)\tSD (W)\t95% limits (W)\tr\tleft out\t")
+	for _, p := range pairs {
+		if p.N < 2 {
+			fmt.Fprintf(tw, "%s − %s\t%d\t-\t-\t-\t-\t%d\t\n", p.A, p.B, p.N, len(p.LeftOut))
+			continue
+		}
+		fmt.Fprintf(tw, "%s − %s\t%d\t%+.1f\t%.1f\t%+.1f to %+.1f\t%.2f\t%d\t\n", p.A, p.B, p.N, p.Bias, p.SD, p.LowerL, p.UpperL, p.R, len(p.LeftOut))
+	}
+	tw.Flush()
+	header := false
+	for _, s := range subjects {
+		var low, missing []string
+		for _, m := range methods {
+			e, ok := s.Estimates[m]
+			switch {
+			case !ok:
+				missing = append(missing, m)
+			case e.Confidence == estimate.Low:
+				low = append(low, m)
+			}
+		}
+		if len(low)+len(missing) == 0 {
+			continue
+		}
+		if !header {
+			fmt.Fprintln(w, "\nLeft out of the pairs they belong to:")
+			header = true
+		}
+		var parts []string
+		if len(low) > 0 {
+			parts = append(parts, strings.Join(low, ", ")+" graded low")
+		}
+		if len(missing) > 0 {
+			parts = append(parts, strings.Join(missing, ", ")+" not estimated")
+		}
+		fmt.Fprintf(w, "  %s: %s\n", s.Name, strings.Join(parts, "; "))
+	}
+	if len(skipped) > 0 {
+		fmt.Fprintln(w)
+		reportSkipped(w, skipped)
+	}
+}

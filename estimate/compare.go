@@ -1,0 +1,128 @@
+package estimate
+
+import (
+	"fmt"
+	"strings"
+)
+
+// Method names for comparing estimates: the three model fits and the three
+// rules of thumb.
+const (
+	MethodCP2    = "cp2"
+	MethodMorton = "morton"
+	MethodOmni   = "ompd"
+	Method20Min  = "20min"
+	Method8Min   = "8min"
+	Method60Min  = "60min"
+)
+
+// Methods lists every method in its usual order.
+var Methods = []string{MethodCP2, MethodMorton, MethodOmni, Method20Min, Method8Min, Method60Min}
+
+// ParseMethods reads a comma-separated list; "morton3" and "omni" are
+// accepted for morton and ompd.
+func ParseMethods(s string) ([]string, error) {
+	var out []string
+	for _, m := range strings.Split(s, ",") {
+		m = strings.TrimSpace(strings.ToLower(m))
+		switch m {
+		case ModelMorton:
+			m = MethodMorton
+		case ModelOmni:
+			m = MethodOmni
+		}
+		found := false
+		for _, k := range Methods {
+			found = found || k == m
+		}
+		if !found {
+			return nil, fmt.Errorf("unknown method %q (methods: %s)", m, strings.Join(Methods, ", "))
+		}
+		out = append(out, m)
+	}
+	if len(out) < 2 {
+		return nil, fmt.Errorf("name at least two methods to compare")
+	}
+	return out, nil
+}
+
+// MethodEstimate is one method's threshold for one subject.
+type MethodEstimate struct {
+	Watts      float64 `json:"watts"`
+	Confidence string  `json:"confidence"`
+}
+
+// ByMethod gives each method's estimate from a report. A rule of thumb is
+// graded medium when its effort is a maximal effort of its own and low
+// when that best is only part of a longer effort or padded.
+func ByMethod(rep Report) map[string]MethodEstimate {
+	out := map[string]MethodEstimate{}
+	for m, model := range map[string]string{MethodCP2: ModelCP2, MethodMorton: ModelMorton, MethodOmni: ModelOmni} {
+		if f := rep.model(model); f != nil {
+			out[m] = MethodEstimate{f.CPW, f.Confidence}
+		}
+	}
+	for _, r := range rep.Rules {
+		m := map[int]string{1200: Method20Min, 480: Method8Min, 3600: Method60Min}[r.Effort.DurationS]
+		conf := Low
+		for _, e := range rep.Efforts {
+			if e.DurationS == r.Effort.DurationS && e.Status == EffortUsed {
+				conf = Medium
+			}
+		}
+		out[m] = MethodEstimate{r.Watts, conf}
+	}
+	return out
+}
+
+// Subject is an athlete (or one athlete's window) with its estimates.
+type Subject struct {
+	Name      string                    `json:"name"`
+	Estimates map[string]MethodEstimate `json:"estimates"`
+}
+
+// PairAgreement is the agreement of two methods across subjects.
+type PairAgreement struct {
+	A, B string
+	Agreement
+	// Diffs and Means are the subjects' a − b and (a + b)/2, for the plot.
+	Diffs, Means []float64
+	Names        []string
+	// LeftOut names the subjects left out, with the reason.
+	LeftOut []string
+}
+
+// Compare computes the agreement of every pair of methods. A subject is
+// left out of a pair when either estimate is missing or graded low.
+func Compare(subjects []Subject, methods []string) []PairAgreement {
+	var out []PairAgreement
+	for i, a := range methods {
+		for _, b := range methods[i+1:] {
+			pa := PairAgreement{A: a, B: b, LeftOut: []string{}}
+			var xs, ys []float64
+			for _, s := range subjects {
+				ea, okA := s.Estimates[a]
+				eb, okB := s.Estimates[b]
+				switch {
+				case !okA || !okB:
+					pa.LeftOut = append(pa.LeftOut, s.Name+": no estimate")
+				case ea.Confidence == Low || eb.Confidence == Low:
+					pa.LeftOut = append(pa.LeftOut, s.Name+": graded low")
+				default:
+					xs, ys = append(xs, ea.Watts), append(ys, eb.Watts)
+					pa.Diffs = append(pa.Diffs, ea.Watts-eb.Watts)
+					pa.Means = append(pa.Means, (ea.Watts+eb.Watts)/2)
+					pa.Names = append(pa.Names, s.Name)
+				}
+			}
+			ag, err := Agree(xs, ys)
+			if err == nil {
+				pa.Agreement = ag
+			} else {
+				pa.Agreement = Agreement{N: len(xs)}
+			}
+			out = append(out, pa)
+		}
+	}
+	return out
+}
