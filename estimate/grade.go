@@ -184,7 +184,11 @@ func (c gradeContext) warnings(rep Report) []Warning {
 	}
 	n := distinct(band)
 	if nested > 0 && n < 3 {
-		ws = append(ws, Warning{WarnNested, fmt.Sprintf("%d of your best powers between %s and %s are only parts of a longer effort (%s, %s on %s), not efforts of their own: they cannot show how power falls with duration.", nested, lo, hi, minutes(host.DurationS), host.File, host.Date)})
+		where := ""
+		if host.Source != nil {
+			where = fmt.Sprintf(" (%s, %s on %s)", minutes(host.DurationS), host.File, host.Date)
+		}
+		ws = append(ws, Warning{WarnNested, fmt.Sprintf("%d of your best powers between %s and %s are only parts of a longer effort%s, not efforts of their own: they cannot show how power falls with duration.", nested, lo, hi, where)})
 	}
 	if n > 0 && n < 3 {
 		ws = append(ws, Warning{WarnFewEfforts, fmt.Sprintf("Only %d distinct maximal effort(s) between %s and %s; at least 3 of clearly different durations are needed for a trustworthy fit.", n, lo, hi)})

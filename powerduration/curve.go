@@ -28,15 +28,27 @@ import (
 	"github.com/sustain-cycling/sustain/ingest"
 )
 
-// Point is the best mean power for one duration, and where it was ridden.
-type Point struct {
-	DurationS int       `json:"duration_s"`
-	Watts     float64   `json:"watts"`
+// Source is the ride a point was ridden in. The points of one ride share
+// one Source, which keeps a curve of thousands of points small.
+type Source struct {
 	File      string    `json:"file"`
 	Date      string    `json:"date"` // YYYY-MM-DD, the ride's local date
-	OffsetS   int       `json:"offset_s"`
 	Session   int       `json:"session,omitempty"`
 	RideStart time.Time `json:"ride_start"`
+}
+
+// SourceOf describes a ride as the source of points.
+func SourceOf(r *ingest.Ride) *Source {
+	return &Source{File: r.File, Date: r.Date(), Session: r.Session, RideStart: r.Start}
+}
+
+// Point is the best mean power for one duration, and where it was ridden:
+// the ride (Source) and the offset of the window's start within it.
+type Point struct {
+	DurationS int     `json:"duration_s"`
+	Watts     float64 `json:"watts"`
+	*Source
+	OffsetS int `json:"offset_s"`
 }
 
 // Same reports whether two points come from the same window of the same ride.
@@ -100,10 +112,9 @@ func (c Curve) At(d int) (Point, bool) {
 func OfRide(r *ingest.Ride) Curve {
 	best := MeanMax(r.PowerW, Durations(len(r.PowerW)))
 	c := Curve{File: r.File, Start: r.Start, Points: make([]Point, len(best))}
-	date := r.Date()
+	src := SourceOf(r)
 	for i, b := range best {
-		c.Points[i] = Point{DurationS: b.DurationS, Watts: b.Watts, File: r.File, Date: date,
-			OffsetS: b.OffsetS, Session: r.Session, RideStart: r.Start}
+		c.Points[i] = Point{DurationS: b.DurationS, Watts: b.Watts, Source: src, OffsetS: b.OffsetS}
 	}
 	return c
 }
@@ -283,9 +294,9 @@ func (k Compact) Expand() (Curve, error) {
 		return Curve{}, fmt.Errorf("%s: curve columns differ in length", k.File)
 	}
 	c := Curve{File: k.File, Start: k.RideStart, Points: make([]Point, len(k.DurationS))}
+	src := &Source{File: k.File, Date: k.Date, Session: k.Session, RideStart: k.RideStart}
 	for i := range k.DurationS {
-		c.Points[i] = Point{DurationS: k.DurationS[i], Watts: k.Watts[i], File: k.File, Date: k.Date,
-			OffsetS: k.OffsetS[i], Session: k.Session, RideStart: k.RideStart}
+		c.Points[i] = Point{DurationS: k.DurationS[i], Watts: k.Watts[i], Source: src, OffsetS: k.OffsetS[i]}
 	}
 	return c, nil
 }

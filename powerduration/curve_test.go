@@ -171,7 +171,7 @@ func TestDeviceFilesAgainstOracle(t *testing.T) {
 
 func point(d int, w float64, file string, day int) Point {
 	start := time.Date(2026, 1, day, 9, 0, 0, 0, time.UTC)
-	return Point{DurationS: d, Watts: w, File: file, Date: start.Format("2006-01-02"), RideStart: start}
+	return Point{DurationS: d, Watts: w, Source: &Source{File: file, Date: start.Format("2006-01-02"), RideStart: start}}
 }
 
 func randomCurve(rng *rand.Rand, file string) Curve {

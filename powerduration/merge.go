@@ -146,6 +146,5 @@ func At(r *ingest.Ride, start, d int) (Point, error) {
 	for _, p := range r.PowerW[start : start+d] {
 		sum += p
 	}
-	return Point{DurationS: d, Watts: sum / float64(d), File: r.File, Date: r.Date(), OffsetS: start,
-		Session: r.Session, RideStart: r.Start}, nil
+	return Point{DurationS: d, Watts: sum / float64(d), Source: SourceOf(r), OffsetS: start}, nil
 }
