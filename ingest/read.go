@@ -264,3 +264,17 @@ func cleanSessions(parts []session, opts Options, loc *time.Location) ([]Ride, e
 func sportAccepted(sport string, opts Options) bool {
 	return opts.AnySport || sport == "cycling" || sport == "unknown"
 }
+
+// ReadBytes decodes the rides of a file already in memory (for callers that
+// also hash it). Like ReadFile, a CSV of elapsed seconds is dated by a date
+// in the file's name, else by fallbackStart. Errors are *FileError.
+func ReadBytes(data []byte, name string, fallbackStart time.Time, opts Options) ([]Ride, error) {
+	if fb := startFromName(name); !fb.IsZero() {
+		fallbackStart = fb
+	}
+	rides, err := Read(bytes.NewReader(data), name, fallbackStart, opts)
+	if err != nil {
+		return nil, &FileError{name, err}
+	}
+	return rides, nil
+}

@@ -53,8 +53,7 @@ func compareAction(c *cli.Context) error {
 	if c.Bool("json") && c.Bool("csv") {
 		return usageError{"choose one of --json and --csv"}
 	}
-	opts, err := ingestOptions(c)
-	if err != nil {
+	if _, err := ingestOptions(c); err != nil {
 		return err
 	}
 	var subjects []estimate.Subject
@@ -64,22 +63,23 @@ func compareAction(c *cli.Context) error {
 		kind = "athletes"
 		dir := c.Args().First()
 		for _, n := range names {
-			res := ingest.Scan([]string{filepath.Join(dir, n)}, opts)
+			res, curves, err := scanPaths(c, []string{filepath.Join(dir, n)})
+			if err != nil {
+				return err
+			}
 			skipped = append(skipped, res.Skipped...)
 			if len(res.Rides) == 0 {
 				continue
 			}
-			curves := powerduration.OfRides(res.Rides, opts.Workers)
 			rep := estimate.Estimate(res.Rides, curves, powerduration.LastDays(powerduration.Newest(curves), days), eo)
 			subjects = append(subjects, estimate.Subject{Name: n, Estimates: estimate.ByMethod(rep)})
 		}
 	} else {
-		res, err := scan(c)
+		res, curves, err := scan(c)
 		if err != nil {
 			return err
 		}
 		skipped = res.Skipped
-		curves := powerduration.OfRides(res.Rides, opts.Workers)
 		first := ""
 		if len(res.Rides) > 0 {
 			first = res.Rides[0].Date()

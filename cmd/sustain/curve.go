@@ -95,12 +95,11 @@ func curveAction(c *cli.Context) error {
 	if err := checkMassAndPlot(c); err != nil {
 		return err
 	}
-	res, err := scan(c)
+	res, curves, err := scan(c)
 	if err != nil {
 		return err
 	}
 	w := c.App.Writer
-	curves := powerduration.OfRides(res.Rides, c.Int("workers"))
 	if c.Bool("per-ride") {
 		enc := json.NewEncoder(w)
 		for _, cv := range curves {

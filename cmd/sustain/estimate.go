@@ -96,11 +96,10 @@ func estimateAction(c *cli.Context) error {
 	if err := checkMassAndPlot(c); err != nil {
 		return err
 	}
-	res, err := scan(c)
+	res, curves, err := scan(c)
 	if err != nil {
 		return err
 	}
-	curves := powerduration.OfRides(res.Rides, c.Int("workers"))
 	win, err := window(c, powerduration.Newest(curves), "90d")
 	if err != nil {
 		return err

@@ -8,6 +8,7 @@ import (
 	"text/tabwriter"
 
 	"github.com/sustain-cycling/sustain/ingest"
+	"github.com/sustain-cycling/sustain/internal/store"
 	"github.com/urfave/cli/v2"
 )
 
@@ -19,19 +20,27 @@ func inspectCommand() *cli.Command {
 		Flags: append(ingestFlags(),
 			&cli.BoolFlag{Name: "problems", Usage: "list only the rides that cleaning had to repair or that look suspect"}),
 		Action: func(c *cli.Context) error {
-			res, err := scan(c)
+			res, _, err := scan(c)
 			if err != nil {
 				return err
 			}
 			if c.Bool("problems") {
 				res = onlyProblems(res)
 			}
+			out := inspectJSON(res)
+			if st, ok := c.App.Metadata["store"].(*store.Store); ok && st != nil {
+				stats, _ := c.App.Metadata["stats"].(store.Stats)
+				out.Store = &storeOut{Path: st.Path, Decoded: stats.Decoded, Cached: stats.Cached}
+			}
 			if c.Bool("json") {
-				if err := writeJSON(c.App.Writer, inspectJSON(res)); err != nil {
+				if err := writeJSON(c.App.Writer, out); err != nil {
 					return err
 				}
 			} else {
 				renderInspect(c.App.Writer, res)
+				if out.Store != nil {
+					fmt.Fprintf(c.App.Writer, "store %s: %d files answered from it, %d decoded\n", out.Store.Path, out.Store.Cached, out.Store.Decoded)
+				}
 			}
 			return nothingRead(res)
 		},
@@ -47,7 +56,14 @@ type rideReport struct {
 	ingest.Quality
 }
 
+type storeOut struct {
+	Path    string `json:"path"`
+	Decoded int    `json:"decoded"`
+	Cached  int    `json:"from_store"`
+}
+
 type inspectOut struct {
+	Store   *storeOut        `json:"store,omitempty"`
 	Rides   int              `json:"rides"`
 	Skipped []ingest.Skipped `json:"skipped"`
 	Quality []rideReport     `json:"quality"`

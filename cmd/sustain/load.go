@@ -7,6 +7,8 @@ import (
 
 	"github.com/schollz/progressbar/v3"
 	"github.com/sustain-cycling/sustain/ingest"
+	"github.com/sustain-cycling/sustain/internal/store"
+	"github.com/sustain-cycling/sustain/powerduration"
 	"github.com/urfave/cli/v2"
 	"golang.org/x/term"
 )
@@ -19,6 +21,8 @@ func ingestFlags() []cli.Flag {
 		&cli.BoolFlag{Name: "salvage", Usage: "read the records of a damaged file (bad FIT checksum, malformed TCX) instead of skipping it"},
 		&cli.StringFlag{Name: "sport", Value: "cycling", Usage: "cycling: keep cycling sessions (and those with no sport recorded); any: keep every sport"},
 		&cli.IntFlag{Name: "workers", Usage: "files decoded at once (default: one per CPU)"},
+		&cli.StringFlag{Name: "store", Usage: "the store of decoded rides and curves (default: sustain/rides.db in your cache folder)"},
+		&cli.BoolFlag{Name: "no-store", Usage: "decode every file, neither reading nor writing the store"},
 	}
 }
 
@@ -42,15 +46,62 @@ func ingestOptions(c *cli.Context) (ingest.Options, error) {
 	return opts, nil
 }
 
-// scan reads the rides under the command's path arguments, with a progress
-// bar on stderr for long walks when stderr is a terminal.
-func scan(c *cli.Context) (ingest.Result, error) {
+// scan reads the rides under the command's path arguments.
+func scan(c *cli.Context) (ingest.Result, []powerduration.Curve, error) {
 	if c.NArg() == 0 {
-		return ingest.Result{}, usageError{"name at least one ride file or folder"}
+		return ingest.Result{}, nil, usageError{"name at least one ride file or folder"}
 	}
+	return scanPaths(c, c.Args().Slice())
+}
+
+// openStore opens the command's store once (nil with --no-store, or when it
+// cannot be opened: then the reason goes to stderr and the run goes on
+// without it).
+func openStore(c *cli.Context) *store.Store {
+	if c.Bool("no-store") {
+		return nil
+	}
+	if s, ok := c.App.Metadata["store"]; ok {
+		st, _ := s.(*store.Store)
+		return st
+	}
+	path := c.String("store")
+	if path == "" {
+		p, err := store.DefaultPath()
+		if err != nil {
+			fmt.Fprintf(c.App.ErrWriter, "sustain: no cache folder for the store (%v); reading every file\n", err)
+			c.App.Metadata["store"] = (*store.Store)(nil)
+			return nil
+		}
+		path = p
+	}
+	st, err := store.Open(path)
+	if err != nil {
+		fmt.Fprintf(c.App.ErrWriter, "sustain: %v; reading every file without the store\n", err)
+		c.App.Metadata["store"] = (*store.Store)(nil)
+		return nil
+	}
+	for _, n := range st.Notes {
+		fmt.Fprintf(c.App.ErrWriter, "sustain: %s\n", n)
+	}
+	c.App.Metadata["store"] = st
+	return st
+}
+
+// closeStore closes the store a command opened.
+func closeStore(app *cli.App) {
+	if st, ok := app.Metadata["store"].(*store.Store); ok && st != nil {
+		st.Close()
+	}
+}
+
+// scanPaths reads the rides under paths and their curves, through the store
+// unless --no-store, with a progress bar on stderr for long walks when
+// stderr is a terminal.
+func scanPaths(c *cli.Context, paths []string) (ingest.Result, []powerduration.Curve, error) {
 	opts, err := ingestOptions(c)
 	if err != nil {
-		return ingest.Result{}, err
+		return ingest.Result{}, nil, err
 	}
 	var bar *progressbar.ProgressBar
 	if f, ok := c.App.ErrWriter.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
@@ -68,11 +119,25 @@ func scan(c *cli.Context) (ingest.Result, error) {
 			bar.Set(done)
 		}
 	}
-	res := ingest.Scan(c.Args().Slice(), opts)
-	if bar != nil {
-		bar.Finish()
+	defer func() {
+		if bar != nil {
+			bar.Finish()
+		}
+	}()
+	if st := openStore(c); st != nil {
+		res, curves, stats, err := st.Scan(paths, opts)
+		if err == nil {
+			prev, _ := c.App.Metadata["stats"].(store.Stats)
+			prev.Files += stats.Files
+			prev.Decoded += stats.Decoded
+			prev.Cached += stats.Cached
+			c.App.Metadata["stats"] = prev
+			return res, curves, nil
+		}
+		fmt.Fprintf(c.App.ErrWriter, "sustain: store %s: %v; reading every file without it\n", st.Path, err)
 	}
-	return res, nil
+	res := ingest.Scan(paths, opts)
+	return res, powerduration.OfRides(res.Rides, opts.Workers), nil
 }
 
 // reportSkipped writes one line per skipped file to w.

@@ -67,6 +67,11 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 			return usageError{err.Error()}
 		},
 		ExitErrHandler: func(*cli.Context, error) {},
+		Metadata:       map[string]any{},
+		After: func(c *cli.Context) error {
+			closeStore(c.App)
+			return nil
+		},
 		Commands: []*cli.Command{
 			inspectCommand(),
 			curveCommand(),

@@ -140,13 +140,12 @@ func trialsAction(c *cli.Context) error {
 	}
 	var es []estimate.Effort
 	if c.Bool("find") {
-		opts, err := ingestOptions(c)
+		res, curves, err := scanPaths(c, c.Args().Slice())
 		if err != nil {
 			return err
 		}
-		res := ingest.Scan(c.Args().Slice(), opts)
 		reportSkipped(c.App.ErrWriter, res.Skipped)
-		best := powerduration.BestOf(powerduration.OfRides(res.Rides, opts.Workers))
+		best := powerduration.BestOf(curves)
 		for _, d := range []int{180, 420, 720} {
 			if p, ok := best.At(d); ok {
 				es = append(es, estimate.Effort{Point: p, Status: estimate.EffortUsed})

@@ -69,11 +69,11 @@ func seasonAction(c *cli.Context) error {
 	if c.String("athlete") != "" {
 		return usageError{"--athlete needs one folder with a subfolder per athlete"}
 	}
-	res, err := scan(c)
+	res, curves, err := scan(c)
 	if err != nil {
 		return err
 	}
-	rep := estimate.Season(res.Rides, powerduration.OfRides(res.Rides, c.Int("workers")), so)
+	rep := estimate.Season(res.Rides, curves, so)
 	return writeSeason(c, res, rep, so, plotTitle("Season", c.Args().Slice(), powerduration.Window{From: firstDate(res), To: lastDate(res)}, len(res.Rides)))
 }
 
@@ -236,8 +236,7 @@ type athleteRow struct {
 
 func squadAction(c *cli.Context, so estimate.SeasonOptions, names []string) error {
 	dir := c.Args().First()
-	opts, err := ingestOptions(c)
-	if err != nil {
+	if _, err := ingestOptions(c); err != nil {
 		return err
 	}
 	if a := c.String("athlete"); a != "" {
@@ -248,18 +247,24 @@ func squadAction(c *cli.Context, so estimate.SeasonOptions, names []string) erro
 		if !found {
 			return usageError{fmt.Sprintf("no athlete %q in %s (athletes: %v)", a, dir, names)}
 		}
-		res := ingest.Scan([]string{filepath.Join(dir, a)}, opts)
-		rep := estimate.Season(res.Rides, powerduration.OfRides(res.Rides, opts.Workers), so)
+		res, curves, err := scanPaths(c, []string{filepath.Join(dir, a)})
+		if err != nil {
+			return err
+		}
+		rep := estimate.Season(res.Rides, curves, so)
 		return writeSeason(c, res, rep, so, plotTitle("Season of "+a, []string{filepath.Join(dir, a)}, powerduration.Window{From: firstDate(res), To: lastDate(res)}, len(res.Rides)))
 	}
 	var rows []athleteRow
 	anyRide := false
 	for _, n := range names {
-		res := ingest.Scan([]string{filepath.Join(dir, n)}, opts)
+		res, curves, err := scanPaths(c, []string{filepath.Join(dir, n)})
+		if err != nil {
+			return err
+		}
 		row := athleteRow{Athlete: n, Rides: len(res.Rides), Skipped: nonNil(res.Skipped), LastRide: lastDate(res)}
 		if len(res.Rides) > 0 {
 			anyRide = true
-			rep := estimate.Season(res.Rides, powerduration.OfRides(res.Rides, opts.Workers), so)
+			rep := estimate.Season(res.Rides, curves, so)
 			last := rep.Windows[len(rep.Windows)-1]
 			row.Threshold, row.Window = last.Threshold, last.Window
 			if d, sig, ok := estimate.RecentChange(rep, 42); ok {

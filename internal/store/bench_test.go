@@ -1,0 +1,192 @@
+package store
+
+import (
+	"bytes"
+	"fmt"
+	"os"
+	"path/filepath"
+	"runtime"
+	"sync"
+	"sync/atomic"
+	"testing"
+	"time"
+
+	"github.com/sustain-cycling/sustain/ingest"
+	"github.com/sustain-cycling/sustain/internal/synth"
+	"github.com/sustain-cycling/sustain/powerduration"
+	"github.com/tormoder/fit"
+)
+
+// benchFolder writes n invented 90-min FIT rides (once per size, shared by
+// the benchmarks of one run).
+var (
+	benchMu   sync.Mutex
+	benchDirs = map[int]string{}
+)
+
+func benchFolder(b *testing.B, n int) string {
+	benchMu.Lock()
+	defer benchMu.Unlock()
+	if d, ok := benchDirs[n]; ok {
+		return d
+	}
+	dir, err := os.MkdirTemp("", fmt.Sprintf("sustain-bench-%d-", n))
+	if err != nil {
+		b.Fatal(err)
+	}
+	a := synth.Athlete{CPW: 270, WPrimeJ: 20000, PmaxW: 1000}
+	day := time.Date(2026, 1, 1, 8, 0, 0, 0, time.UTC)
+	for i := range n {
+		tr := synth.FieldRide(a, day.Add(time.Duration(i)*20*time.Hour), 90, []int{60 * (1 + i%12)}, uint64(i))
+		var buf bytes.Buffer
+		if err := synth.WriteFIT(&buf, tr); err != nil {
+			b.Fatal(err)
+		}
+		if err := os.WriteFile(filepath.Join(dir, fmt.Sprintf("ride-%04d.fit", i)), buf.Bytes(), 0o644); err != nil {
+			b.Fatal(err)
+		}
+	}
+	benchDirs[n] = dir
+	return dir
+}
+
+func TestMain(m *testing.M) {
+	code := m.Run()
+	for _, d := range benchDirs {
+		os.RemoveAll(d)
+	}
+	os.Exit(code)
+}
+
+// BenchmarkBareFITDecode reads and decodes every file with the FIT module
+// alone, on the same pool of workers as a scan: the floor for a scan.
+func BenchmarkBareFITDecode(b *testing.B) {
+	dir := benchFolder(b, 100)
+	files, _ := ingest.ListFiles([]string{dir})
+	for b.Loop() {
+		var wg sync.WaitGroup
+		var next atomic.Int64
+		for range runtime.NumCPU() {
+			wg.Add(1)
+			go func() {
+				defer wg.Done()
+				for i := int(next.Add(1)) - 1; i < len(files); i = int(next.Add(1)) - 1 {
+					data, err := os.ReadFile(files[i])
+					if err != nil {
+						b.Error(err)
+						return
+					}
+					if _, err := fit.Decode(bytes.NewReader(data)); err != nil {
+						b.Error(err)
+						return
+					}
+				}
+			}()
+		}
+		wg.Wait()
+	}
+}
+
+// BenchmarkScanNoStore is ingest's scan (read, decode, clean) of the same
+// folder: what every command does before anything else with --no-store.
+// Target (issue 6): at most 1.25× BenchmarkBareFITDecode.
+func BenchmarkScanNoStore(b *testing.B) {
+	dir := benchFolder(b, 100)
+	for b.Loop() {
+		if res := ingest.Scan([]string{dir}, ingest.Options{}); len(res.Rides) != 100 {
+			b.Fatalf("%d rides", len(res.Rides))
+		}
+	}
+}
+
+// BenchmarkScanNoStoreWithCurves adds the rides' curves (all commands but
+// inspect need them).
+func BenchmarkScanNoStoreWithCurves(b *testing.B) {
+	dir := benchFolder(b, 100)
+	for b.Loop() {
+		res := ingest.Scan([]string{dir}, ingest.Options{})
+		powerduration.OfRides(res.Rides, 0)
+	}
+}
+
+// BenchmarkStoreCold scans into an empty store; BenchmarkStoreWarm re-scans
+// the unchanged folder. Target: warm at least 20× faster than cold.
+func BenchmarkStoreCold(b *testing.B) {
+	dir := benchFolder(b, 100)
+	for b.Loop() {
+		b.StopTimer()
+		db := filepath.Join(b.TempDir(), "rides.db")
+		s, err := Open(db)
+		if err != nil {
+			b.Fatal(err)
+		}
+		b.StartTimer()
+		if _, _, _, err := s.Scan([]string{dir}, ingest.Options{}); err != nil {
+			b.Fatal(err)
+		}
+		s.Close()
+	}
+}
+
+func BenchmarkStoreWarm(b *testing.B) {
+	dir := benchFolder(b, 100)
+	s, err := Open(filepath.Join(b.TempDir(), "rides.db"))
+	if err != nil {
+		b.Fatal(err)
+	}
+	defer s.Close()
+	if _, _, _, err := s.Scan([]string{dir}, ingest.Options{}); err != nil {
+		b.Fatal(err)
+	}
+	for b.Loop() {
+		if _, _, st, err := s.Scan([]string{dir}, ingest.Options{}); err != nil || st.Decoded != 0 {
+			b.Fatal(err, st)
+		}
+	}
+}
+
+// BenchmarkPeakMemory1000 scans 1000 rides through the store and reports
+// the peak heap in use (MB) while the rides and their curves are held.
+// Target: at most 150 MB.
+func BenchmarkPeakMemory1000(b *testing.B) {
+	dir := benchFolder(b, 1000)
+	for b.Loop() {
+		b.StopTimer()
+		s, err := Open(filepath.Join(b.TempDir(), "rides.db"))
+		if err != nil {
+			b.Fatal(err)
+		}
+		runtime.GC()
+		var peak atomic.Uint64
+		stop := make(chan struct{})
+		var wg sync.WaitGroup
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			var ms runtime.MemStats
+			for {
+				runtime.ReadMemStats(&ms)
+				if ms.HeapInuse > peak.Load() {
+					peak.Store(ms.HeapInuse)
+				}
+				select {
+				case <-stop:
+					return
+				case <-time.After(5 * time.Millisecond):
+				}
+			}
+		}()
+		b.StartTimer()
+		res, curves, _, err := s.Scan([]string{dir}, ingest.Options{})
+		if err != nil || len(res.Rides) != 1000 {
+			b.Fatal(err, len(res.Rides))
+		}
+		b.StopTimer()
+		close(stop)
+		wg.Wait()
+		runtime.KeepAlive(curves)
+		s.Close()
+		b.ReportMetric(float64(peak.Load())/(1<<20), "peak-MB")
+		b.StartTimer()
+	}
+}

@@ -1,0 +1,149 @@
+package store
+
+import (
+	"os"
+	"path/filepath"
+	"reflect"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/sustain-cycling/sustain/ingest"
+	"github.com/sustain-cycling/sustain/internal/synth"
+	"github.com/sustain-cycling/sustain/powerduration"
+)
+
+func season(t *testing.T, weeks int) string {
+	t.Helper()
+	dir := t.TempDir()
+	a := synth.Athlete{CPW: 270, WPrimeJ: 20000, PmaxW: 1000}
+	files := synth.Season("r", time.Date(2026, 3, 2, 0, 0, 0, 0, time.UTC), weeks, func(int) synth.Athlete { return a }, 5)
+	if err := synth.WriteSeason(dir, files); err != nil {
+		t.Fatal(err)
+	}
+	os.WriteFile(filepath.Join(dir, "r", "broken.fit"), []byte("not a ride"), 0o644)
+	return filepath.Join(dir, "r")
+}
+
+func openTemp(t *testing.T) *Store {
+	t.Helper()
+	s, err := Open(filepath.Join(t.TempDir(), "sub", "rides.db"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() { s.Close() })
+	return s
+}
+
+// A warm re-scan decodes nothing and returns exactly what decoding gave.
+func TestWarmScanEqualsDecoding(t *testing.T) {
+	dir := season(t, 3)
+	s := openTemp(t)
+	opts := ingest.Options{}
+	cold, coldCurves, st, err := s.Scan([]string{dir}, opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if st.Decoded != st.Files || st.Cached != 0 {
+		t.Fatalf("cold scan %+v", st)
+	}
+	warm, warmCurves, st, err := s.Scan([]string{dir}, opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if st.Decoded != 0 || st.Cached != st.Files {
+		t.Fatalf("warm scan %+v", st)
+	}
+	plain := ingest.Scan([]string{dir}, opts)
+	for name, res := range map[string]ingest.Result{"cold": cold, "warm": warm} {
+		if len(res.Rides) != len(plain.Rides) || !reflect.DeepEqual(res.Skipped, plain.Skipped) {
+			t.Fatalf("%s: %d rides, skipped %v; plain %d, %v", name, len(res.Rides), res.Skipped, len(plain.Rides), plain.Skipped)
+		}
+		for i := range res.Rides {
+			a, b := res.Rides[i], plain.Rides[i]
+			if a.File != b.File || !a.Start.Equal(b.Start) || !reflect.DeepEqual(a.PowerW, b.PowerW) || !reflect.DeepEqual(a.Quality, b.Quality) {
+				t.Fatalf("%s: ride %d differs from decoding", name, i)
+			}
+		}
+	}
+	plainCurves := powerduration.OfRides(plain.Rides, 0)
+	for i := range warmCurves {
+		if !sameCurve(warmCurves[i], plainCurves[i]) || !sameCurve(coldCurves[i], plainCurves[i]) {
+			t.Fatalf("curve %d differs from computing it", i)
+		}
+	}
+}
+
+func sameCurve(a, b powerduration.Curve) bool {
+	if len(a.Points) != len(b.Points) {
+		return false
+	}
+	for i := range a.Points {
+		p, q := a.Points[i], b.Points[i]
+		if p.DurationS != q.DurationS || p.Watts != q.Watts || p.OffsetS != q.OffsetS || *p.Source != *q.Source {
+			return false
+		}
+	}
+	return true
+}
+
+// Changed content is decoded again; a touched but unchanged file is not;
+// other options are a different result.
+func TestRescanDecodesOnlyWhatChanged(t *testing.T) {
+	dir := season(t, 2)
+	s := openTemp(t)
+	if _, _, _, err := s.Scan([]string{dir}, ingest.Options{}); err != nil {
+		t.Fatal(err)
+	}
+	files, _ := ingest.ListFiles([]string{dir})
+	later := time.Now().Add(time.Hour)
+	os.Chtimes(files[0], later, later) // touched, same bytes
+	b, _ := os.ReadFile(files[1])
+	os.WriteFile(files[1], append(b, '\n'), 0o644) // changed bytes
+	_, _, st, err := s.Scan([]string{dir}, ingest.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if st.Decoded != 1 {
+		t.Errorf("after one change: %+v", st)
+	}
+	_, _, st, _ = s.Scan([]string{dir}, ingest.Options{SpikeCeilingW: 1500})
+	if st.Decoded != st.Files {
+		t.Errorf("new spike ceiling: %+v", st)
+	}
+}
+
+// A damaged store is moved aside and rebuilt; a store of another schema is
+// emptied.
+func TestDamagedAndOldStores(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "rides.db")
+	os.WriteFile(path, []byte(strings.Repeat("this is not a database ", 500)), 0o644)
+	s, err := Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(s.Notes) != 1 || !strings.Contains(s.Notes[0], "damaged") {
+		t.Errorf("notes %v", s.Notes)
+	}
+	dir := season(t, 1)
+	if _, _, _, err := s.Scan([]string{dir}, ingest.Options{}); err != nil {
+		t.Fatal(err)
+	}
+	s.db.Exec(`UPDATE meta SET value = '0' WHERE key = 'schema_version'`)
+	s.Close()
+	s, err = Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer s.Close()
+	if len(s.Notes) != 1 || !strings.Contains(s.Notes[0], "schema 0") {
+		t.Errorf("notes %v", s.Notes)
+	}
+	if _, _, st, _ := s.Scan([]string{dir}, ingest.Options{}); st.Decoded != st.Files {
+		t.Errorf("an emptied store answered: %+v", st)
+	}
+	aside, _ := filepath.Glob(path + ".damaged-*")
+	if len(aside) != 1 {
+		t.Errorf("damaged store not kept aside: %v", aside)
+	}
+}
