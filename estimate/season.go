@@ -81,8 +81,20 @@ func Season(rides []ingest.Ride, curves []powerduration.Curve, opts SeasonOption
 		opts.Components = ModelMorton
 	}
 	var rep SeasonReport
-	if len(rides) == 0 {
-		return rep
+	for _, w := range SeasonWindows(rides, opts.WindowDays, opts.StepDays) {
+		r := Estimate(rides, curves, w, opts.Options)
+		rep.Windows = append(rep.Windows, seasonWindow(r, opts.Components))
+	}
+	rep.Changes, rep.Overall = changes(rep.Windows, opts.WindowDays/opts.StepDays)
+	return rep
+}
+
+// SeasonWindows are the rolling windows over the rides: windowDays long,
+// ending every stepDays back from the newest ride, until one reaches back to
+// the first ride.
+func SeasonWindows(rides []ingest.Ride, windowDays, stepDays int) []powerduration.Window {
+	if len(rides) == 0 || windowDays <= 0 || stepDays <= 0 {
+		return nil
 	}
 	first, last := rides[0].Date(), rides[0].Date()
 	for i := range rides {
@@ -91,22 +103,14 @@ func Season(rides []ingest.Ride, curves []powerduration.Curve, opts SeasonOption
 	}
 	lastT, _ := time.Parse("2006-01-02", last)
 	firstT, _ := time.Parse("2006-01-02", first)
-	// window ends every step back from the newest ride, until a window
-	// reaches back to the first ride
-	var ends []time.Time
-	for end := lastT; ; end = end.AddDate(0, 0, -opts.StepDays) {
-		ends = append([]time.Time{end}, ends...)
-		if !end.AddDate(0, 0, -(opts.WindowDays - 1)).After(firstT) {
+	var ws []powerduration.Window
+	for end := lastT; ; end = end.AddDate(0, 0, -stepDays) {
+		ws = append([]powerduration.Window{powerduration.LastDays(end.Format("2006-01-02"), windowDays)}, ws...)
+		if !end.AddDate(0, 0, -(windowDays - 1)).After(firstT) {
 			break
 		}
 	}
-	for _, end := range ends {
-		w := powerduration.LastDays(end.Format("2006-01-02"), opts.WindowDays)
-		r := Estimate(rides, curves, w, opts.Options)
-		rep.Windows = append(rep.Windows, seasonWindow(r, opts.Components))
-	}
-	rep.Changes, rep.Overall = changes(rep.Windows, opts.WindowDays/opts.StepDays)
-	return rep
+	return ws
 }
 
 func seasonWindow(r Report, model string) SeasonWindow {

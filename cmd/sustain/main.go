@@ -79,6 +79,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 			seasonCommand(),
 			compareCommand(),
 			protocolCommand(),
+			exportCommand(),
 			demoCommand(),
 		},
 		Action: func(c *cli.Context) error {
