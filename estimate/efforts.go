@@ -58,7 +58,7 @@ const nestedShare = 0.8
 // rides and own (either may be nil) give each ride's quality report and
 // its own curve; without its own curve a point is judged against the
 // other points of c from the same ride.
-func SelectEfforts(c powerduration.Curve, minS, maxS int, rides map[rideKey]*ingest.Ride, own map[rideKey]powerduration.Curve) []Effort {
+func SelectEfforts(c powerduration.Curve, minS, maxS int, rides map[rideKey]*ingest.Ride, own map[rideKey]powerduration.RideCurve) []Effort {
 	var es []Effort
 	for _, d := range candidateDurations {
 		if d < minS || d > maxS {
@@ -76,9 +76,11 @@ func SelectEfforts(c powerduration.Curve, minS, maxS int, rides map[rideKey]*ing
 	}
 	for i := range es {
 		e := es[i].Point
-		rc, ok := own[keyOfPoint(e)]
-		if !ok {
-			rc = c
+		var rc interface {
+			At(int) (powerduration.Point, bool)
+		} = c
+		if r, ok := own[keyOfPoint(e)]; ok {
+			rc = r
 		}
 		for _, d := range candidateDurations {
 			q, ok := rc.At(d)

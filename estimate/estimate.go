@@ -125,12 +125,12 @@ type Report struct {
 
 // Estimate fits the models to the best-of curve of the rides within w.
 // curves are the rides' curves in the same order as rides.
-func Estimate(rides []ingest.Ride, curves []powerduration.Curve, w powerduration.Window, opts Options) Report {
+func Estimate(rides []ingest.Ride, curves []powerduration.RideCurve, w powerduration.Window, opts Options) Report {
 	opts.defaults()
 	index := map[rideKey]*ingest.Ride{}
-	own := map[rideKey]powerduration.Curve{}
+	own := map[rideKey]powerduration.RideCurve{}
 	var inRides []*ingest.Ride
-	var inCurves []powerduration.Curve
+	var inCurves []powerduration.RideCurve
 	for i := range rides {
 		if w.Contains(rides[i].Date()) {
 			k := rideKey{rides[i].File, rides[i].Session}

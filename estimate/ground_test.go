@@ -17,7 +17,7 @@ var truth = synth.Athlete{Name: "invented", CPW: 280, WPrimeJ: 20000, PmaxW: 100
 var day0 = time.Date(2026, 3, 2, 8, 0, 0, 0, time.UTC)
 
 // ridesOf cleans invented tracks exactly as files would be.
-func ridesOf(t *testing.T, tracks []synth.Track) ([]ingest.Ride, []powerduration.Curve) {
+func ridesOf(t *testing.T, tracks []synth.Track) ([]ingest.Ride, []powerduration.RideCurve) {
 	t.Helper()
 	var rides []ingest.Ride
 	for i, tr := range tracks {

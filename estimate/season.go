@@ -70,7 +70,7 @@ const (
 )
 
 // Season estimates over rolling windows spanning all the rides.
-func Season(rides []ingest.Ride, curves []powerduration.Curve, opts SeasonOptions) SeasonReport {
+func Season(rides []ingest.Ride, curves []powerduration.RideCurve, opts SeasonOptions) SeasonReport {
 	if opts.WindowDays <= 0 {
 		opts.WindowDays = 42
 	}

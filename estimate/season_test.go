@@ -9,7 +9,7 @@ import (
 	"github.com/sustain-cycling/sustain/powerduration"
 )
 
-func seasonOf(t *testing.T, prog synth.Progression, weeks int) ([]ingest.Ride, []powerduration.Curve) {
+func seasonOf(t *testing.T, prog synth.Progression, weeks int) ([]ingest.Ride, []powerduration.RideCurve) {
 	t.Helper()
 	var tracks []synth.Track
 	for _, f := range synth.Season("s", day0, weeks, prog, 3) {

@@ -84,19 +84,31 @@ var longGrid = func() []int {
 	return g
 }()
 
-// Durations returns the grid of durations for a ride of length seconds.
+// grid is every duration of the shared grid, up to MaxGridS.
+var grid = func() []int {
+	ds := make([]int, 0, 3600+len(longGrid))
+	for d := 1; d <= 3600; d++ {
+		ds = append(ds, d)
+	}
+	return append(ds, longGrid...)
+}()
+
+// Durations returns the grid of durations for a ride of length seconds. The
+// slice is shared: read it, never change it.
 func Durations(length int) []int {
-	var ds []int
-	for d := 1; d <= min(length, 3600); d++ {
-		ds = append(ds, d)
+	n, _ := slices.BinarySearch(grid, length+1)
+	return grid[:n:n]
+}
+
+// gridIndex is the position of duration d on the grid, or -1.
+func gridIndex(d int) int {
+	if d >= 1 && d <= 3600 {
+		return d - 1
 	}
-	for _, d := range longGrid {
-		if d > length {
-			break
-		}
-		ds = append(ds, d)
+	if i, ok := slices.BinarySearch(grid, d); ok {
+		return i
 	}
-	return ds
+	return -1
 }
 
 // At returns the point for duration d, if the curve has it.
@@ -109,14 +121,13 @@ func (c Curve) At(d int) (Point, bool) {
 }
 
 // OfRide computes the ride's curve over the shared grid of durations.
-func OfRide(r *ingest.Ride) Curve {
+func OfRide(r *ingest.Ride) RideCurve {
 	best := MeanMax(r.PowerW, Durations(len(r.PowerW)))
-	c := Curve{File: r.File, Start: r.Start, Points: make([]Point, len(best))}
-	src := SourceOf(r)
+	rc := RideCurve{Source: SourceOf(r), Watts: make([]float64, len(best)), OffsetsS: make([]int32, len(best))}
 	for i, b := range best {
-		c.Points[i] = Point{DurationS: b.DurationS, Watts: b.Watts, Source: src, OffsetS: b.OffsetS}
+		rc.Watts[i], rc.OffsetsS[i] = b.Watts, int32(b.OffsetS)
 	}
-	return c
+	return rc
 }
 
 // Best is the highest mean power for a duration and the offset of the
@@ -236,11 +247,11 @@ func (r rangeMax) max(a, b int) float64 {
 
 // OfRides computes the curve of every ride, on up to workers goroutines
 // (workers <= 0: one per CPU). The result is in the rides' order.
-func OfRides(rides []ingest.Ride, workers int) []Curve {
+func OfRides(rides []ingest.Ride, workers int) []RideCurve {
 	if workers <= 0 {
 		workers = runtime.NumCPU()
 	}
-	out := make([]Curve, len(rides))
+	out := make([]RideCurve, len(rides))
 	var wg sync.WaitGroup
 	next := make(chan int)
 	for range min(workers, max(len(rides), 1)) {
@@ -273,30 +284,22 @@ type Compact struct {
 	RideStart time.Time `json:"ride_start"`
 	DurationS []int     `json:"duration_s"`
 	Watts     []float64 `json:"watts"`
-	OffsetS   []int     `json:"offset_s"`
+	OffsetS   []int32   `json:"offset_s"`
 }
 
 // Compacted returns a ride's curve in columns.
-func (c Curve) Compacted() Compact {
-	k := Compact{File: c.File, RideStart: c.Start, Date: c.Start.Format("2006-01-02")}
-	for _, p := range c.Points {
-		k.Session = p.Session
-		k.DurationS = append(k.DurationS, p.DurationS)
-		k.Watts = append(k.Watts, p.Watts)
-		k.OffsetS = append(k.OffsetS, p.OffsetS)
-	}
-	return k
+func (rc RideCurve) Compacted() Compact {
+	return Compact{File: rc.File, Session: rc.Session, Date: rc.Date, RideStart: rc.RideStart,
+		DurationS: rc.DurationsS(), Watts: rc.Watts, OffsetS: rc.OffsetsS}
 }
 
 // Expand turns a compact curve back into a ride's curve.
-func (k Compact) Expand() (Curve, error) {
-	if len(k.Watts) != len(k.DurationS) || len(k.OffsetS) != len(k.DurationS) {
-		return Curve{}, fmt.Errorf("%s: curve columns differ in length", k.File)
+func (k Compact) Expand() (RideCurve, error) {
+	ds := Durations(MaxGridS)
+	if len(k.Watts) != len(k.DurationS) || len(k.OffsetS) != len(k.DurationS) || len(k.DurationS) > len(ds) ||
+		!slices.Equal(k.DurationS, ds[:len(k.DurationS)]) {
+		return RideCurve{}, fmt.Errorf("%s: the curve's columns do not follow the shared grid of durations", k.File)
 	}
-	c := Curve{File: k.File, Start: k.RideStart, Points: make([]Point, len(k.DurationS))}
-	src := &Source{File: k.File, Date: k.Date, Session: k.Session, RideStart: k.RideStart}
-	for i := range k.DurationS {
-		c.Points[i] = Point{DurationS: k.DurationS[i], Watts: k.Watts[i], Source: src, OffsetS: k.OffsetS[i]}
-	}
-	return c, nil
+	return RideCurve{Source: &Source{File: k.File, Date: k.Date, Session: k.Session, RideStart: k.RideStart},
+		Watts: k.Watts, OffsetsS: k.OffsetS}, nil
 }

@@ -189,7 +189,8 @@ func equalCurves(a, b Curve) bool {
 		return false
 	}
 	for i := range a.Points {
-		if a.Points[i] != b.Points[i] {
+		p, q := a.Points[i], b.Points[i]
+		if p.DurationS != q.DurationS || p.Watts != q.Watts || p.OffsetS != q.OffsetS || *p.Source != *q.Source {
 			return false
 		}
 	}
@@ -225,10 +226,12 @@ func TestMergeLaws(t *testing.T) {
 }
 
 func TestWindows(t *testing.T) {
-	mk := func(day int) Curve {
-		return Curve{Start: time.Date(2026, 3, day, 10, 0, 0, 0, time.UTC), Points: []Point{point(1, float64(day), "x", day)}}
+	mk := func(day int) RideCurve {
+		start := time.Date(2026, 3, day, 10, 0, 0, 0, time.UTC)
+		src := &Source{File: "x", Date: start.Format("2006-01-02"), RideStart: start}
+		return RideCurve{Source: src, Watts: []float64{float64(day)}, OffsetsS: []int32{0}}
 	}
-	curves := []Curve{mk(1), mk(10), mk(20), mk(31)}
+	curves := []RideCurve{mk(1), mk(10), mk(20), mk(31)}
 	if got := Newest(curves); got != "2026-03-31" {
 		t.Fatalf("newest %s", got)
 	}
@@ -251,5 +254,34 @@ func TestWindows(t *testing.T) {
 		if _, err := ParseDays(bad); err == nil {
 			t.Errorf("ParseDays(%q) accepted", bad)
 		}
+	}
+}
+
+// BestOf over rides' curves is the fold of Merge over their spelled-out
+// curves, and the compact JSON line round-trips.
+func TestBestOfIsMergeFold(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	var rcs []RideCurve
+	var fold Curve
+	for k := range 6 {
+		n := 100 + rng.IntN(4000)
+		if k%2 == 1 {
+			n += 5000 // past an hour: the long grid too
+		}
+		p := make([]float64, n)
+		for i := range p {
+			p[i] = float64(rng.IntN(400))
+		}
+		r := ingest.Ride{File: "r" + string(rune('a'+k)) + ".fit", Start: time.Date(2026, 4, 1+k, 8, 0, 0, 0, time.UTC), PowerW: p}
+		rc := OfRide(&r)
+		back, err := rc.Compacted().Expand()
+		if err != nil || !equalCurves(back.Curve(), rc.Curve()) {
+			t.Fatalf("compact round trip: %v", err)
+		}
+		rcs = append(rcs, rc)
+		fold = Merge(fold, rc.Curve())
+	}
+	if !equalCurves(BestOf(rcs), fold) {
+		t.Error("BestOf differs from folding Merge")
 	}
 }

@@ -54,14 +54,25 @@ func Merge(a, b Curve) Curve {
 	return out
 }
 
-// BestOf merges any number of curves.
-func BestOf(curves []Curve) Curve {
-	var out Curve
-	for _, c := range curves {
-		out = Merge(out, c)
+// BestOf is the pointwise best of the rides' curves: the same as merging
+// their Curves one by one, in one pass.
+func BestOf(curves []RideCurve) Curve {
+	n := 0
+	for _, rc := range curves {
+		n = max(n, rc.Len())
 	}
-	if out.Points == nil {
-		out.Points = []Point{}
+	out := Curve{Points: make([]Point, 0, n)}
+	for i := range n {
+		var best Point
+		found := false
+		for _, rc := range curves {
+			if i < rc.Len() {
+				if p := rc.point(i); !found || better(p, best) {
+					best, found = p, true
+				}
+			}
+		}
+		out.Points = append(out.Points, best)
 	}
 	return out
 }
@@ -115,10 +126,10 @@ func LastDays(end string, days int) Window {
 }
 
 // InWindow keeps the curves of rides whose date lies in w.
-func InWindow(curves []Curve, w Window) []Curve {
-	var out []Curve
+func InWindow(curves []RideCurve, w Window) []RideCurve {
+	var out []RideCurve
 	for _, c := range curves {
-		if w.Contains(c.Start.Format("2006-01-02")) {
+		if w.Contains(c.Date) {
 			out = append(out, c)
 		}
 	}
@@ -126,11 +137,11 @@ func InWindow(curves []Curve, w Window) []Curve {
 }
 
 // Newest returns the date of the latest ride among the curves, or "".
-func Newest(curves []Curve) string {
+func Newest(curves []RideCurve) string {
 	newest := ""
 	for _, c := range curves {
-		if d := c.Start.Format("2006-01-02"); d > newest {
-			newest = d
+		if c.Date > newest {
+			newest = c.Date
 		}
 	}
 	return newest

@@ -91,8 +91,9 @@ func exportAction(c *cli.Context) error {
 			rides.Rows = append(rides.Rows, []any{athlete, r.File, r.Session, r.Date(), r.Start.Format("2006-01-02T15:04:05Z07:00"),
 				r.Sport, q.Seconds, q.PowerCoverage, q.RecordingIntervalS, len(q.Gaps), q.GapSeconds, len(q.Dropouts),
 				q.DropoutSeconds, q.SpikesRemoved, len(q.StuckRuns), stuck, q.Truncated, q.Salvaged})
-			for _, p := range curves[i].Points {
-				points.Rows = append(points.Rows, []any{athlete, p.File, p.Session, p.Date, p.DurationS, p.Watts, p.OffsetS})
+			rc := curves[i]
+			for k, d := range rc.DurationsS() {
+				points.Rows = append(points.Rows, []any{athlete, rc.File, rc.Session, rc.Date, d, rc.Watts[k], int(rc.OffsetsS[k])})
 			}
 		}
 		for _, w := range estimate.SeasonWindows(res.Rides, windowDays, stepDays) {

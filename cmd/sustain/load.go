@@ -47,7 +47,7 @@ func ingestOptions(c *cli.Context) (ingest.Options, error) {
 }
 
 // scan reads the rides under the command's path arguments.
-func scan(c *cli.Context) (ingest.Result, []powerduration.Curve, error) {
+func scan(c *cli.Context) (ingest.Result, []powerduration.RideCurve, error) {
 	if c.NArg() == 0 {
 		return ingest.Result{}, nil, usageError{"name at least one ride file or folder"}
 	}
@@ -98,7 +98,7 @@ func closeStore(app *cli.App) {
 // scanPaths reads the rides under paths and their curves, through the store
 // unless --no-store, with a progress bar on stderr for long walks when
 // stderr is a terminal.
-func scanPaths(c *cli.Context, paths []string) (ingest.Result, []powerduration.Curve, error) {
+func scanPaths(c *cli.Context, paths []string) (ingest.Result, []powerduration.RideCurve, error) {
 	opts, err := ingestOptions(c)
 	if err != nil {
 		return ingest.Result{}, nil, err

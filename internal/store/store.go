@@ -190,7 +190,7 @@ type entry struct {
 	mtime  int64
 	hash   string
 	rides  []ingest.Ride
-	curves []powerduration.Curve
+	curves []powerduration.RideCurve
 	reason string // why the file was skipped
 	fresh  bool   // decoded in this run: to be written
 	known  bool   // path, size and mtime matched the files table
@@ -207,7 +207,7 @@ type stored struct {
 
 // Scan reads every ride under paths as ingest.Scan does, with the rides'
 // curves, decoding only the files the store does not already hold.
-func (s *Store) Scan(paths []string, opts ingest.Options) (ingest.Result, []powerduration.Curve, Stats, error) {
+func (s *Store) Scan(paths []string, opts ingest.Options) (ingest.Result, []powerduration.RideCurve, Stats, error) {
 	files, skipped := ingest.ListFiles(paths)
 	st := Stats{Files: len(files)}
 	key := optionsKey(opts)
@@ -267,7 +267,7 @@ func (s *Store) Scan(paths []string, opts ingest.Options) (ingest.Result, []powe
 	res.Skipped = skipped
 	type pair struct {
 		r ingest.Ride
-		c powerduration.Curve
+		c powerduration.RideCurve
 	}
 	var all []pair
 	for i := range es {
@@ -295,7 +295,7 @@ func (s *Store) Scan(paths []string, opts ingest.Options) (ingest.Result, []powe
 		}
 		return ra.Session < rb.Session
 	})
-	curves := make([]powerduration.Curve, len(all))
+	curves := make([]powerduration.RideCurve, len(all))
 	for i, p := range all {
 		res.Rides = append(res.Rides, p.r)
 		curves[i] = p.c
@@ -370,7 +370,7 @@ func (s *Store) resolve(e *entry, key string, opts ingest.Options) error {
 		return nil
 	}
 	e.rides = rides
-	e.curves = make([]powerduration.Curve, len(rides))
+	e.curves = make([]powerduration.RideCurve, len(rides))
 	for i := range rides {
 		e.curves[i] = powerduration.OfRide(&e.rides[i])
 	}
@@ -577,7 +577,7 @@ func encodeFloats(v []float64) []byte {
 	for i, x := range v {
 		binary.LittleEndian.PutUint64(raw[8*i:], math.Float64bits(x))
 	}
-	return deflate(raw)
+	return raw
 }
 
 func decodeFloats(b []byte, n int) ([]float64, error) {
@@ -594,35 +594,31 @@ func decodeFloats(b []byte, n int) ([]float64, error) {
 
 // encodeCurve packs the curve's watts (float64) and offsets (uint32); the
 // durations are the shared grid for the ride's length.
-func encodeCurve(c powerduration.Curve) []byte {
-	raw := make([]byte, 12*len(c.Points))
-	for i, p := range c.Points {
-		binary.LittleEndian.PutUint64(raw[12*i:], math.Float64bits(p.Watts))
-		binary.LittleEndian.PutUint32(raw[12*i+8:], uint32(p.OffsetS))
+func encodeCurve(c powerduration.RideCurve) []byte {
+	raw := make([]byte, 12*c.Len())
+	for i := range c.Watts {
+		binary.LittleEndian.PutUint64(raw[12*i:], math.Float64bits(c.Watts[i]))
+		binary.LittleEndian.PutUint32(raw[12*i+8:], uint32(c.OffsetsS[i]))
 	}
-	return deflate(raw)
+	return raw
 }
 
-func decodeCurve(b []byte, r *ingest.Ride) (powerduration.Curve, error) {
-	ds := powerduration.Durations(len(r.PowerW))
-	raw, err := inflate(b, 12*len(ds))
-	if err != nil {
-		return powerduration.Curve{}, err
+func decodeCurve(raw []byte, r *ingest.Ride) (powerduration.RideCurve, error) {
+	n := len(powerduration.Durations(r.Quality.Seconds))
+	if len(raw) != 12*n {
+		return powerduration.RideCurve{}, fmt.Errorf("damaged curve: %d bytes, want %d", len(raw), 12*n)
 	}
-	src := powerduration.SourceOf(r)
-	c := powerduration.Curve{File: r.File, Start: r.Start, Points: make([]powerduration.Point, len(ds))}
-	for i, d := range ds {
-		c.Points[i] = powerduration.Point{DurationS: d, Source: src,
-			Watts:   math.Float64frombits(binary.LittleEndian.Uint64(raw[12*i:])),
-			OffsetS: int(binary.LittleEndian.Uint32(raw[12*i+8:]))}
+	c := powerduration.RideCurve{Source: powerduration.SourceOf(r), Watts: make([]float64, n), OffsetsS: make([]int32, n)}
+	for i := range n {
+		c.Watts[i] = math.Float64frombits(binary.LittleEndian.Uint64(raw[12*i:]))
+		c.OffsetsS[i] = int32(binary.LittleEndian.Uint32(raw[12*i+8:]))
 	}
 	return c, nil
 }
 
-// The blobs are stored as they are: inflating them cost more than reading
-// them (a warm re-scan spent most of its time in the decompressor).
-func deflate(raw []byte) []byte { return raw }
-
+// The blobs are stored as they are: inflating compressed ones cost more
+// than reading them (a warm re-scan spent most of its time in the
+// decompressor).
 func inflate(b []byte, n int) ([]byte, error) {
 	if len(b) != n {
 		return nil, fmt.Errorf("damaged record: %d bytes, want %d", len(b), n)

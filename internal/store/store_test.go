@@ -74,7 +74,8 @@ func TestWarmScanEqualsDecoding(t *testing.T) {
 	}
 }
 
-func sameCurve(a, b powerduration.Curve) bool {
+func sameCurve(x, y powerduration.RideCurve) bool {
+	a, b := x.Curve(), y.Curve()
 	if len(a.Points) != len(b.Points) {
 		return false
 	}
