@@ -62,7 +62,11 @@ const AuditLimit = -0.10
 func audit(rides []*ingest.Ride, f Fit, differential bool) []AuditRide {
 	var out []AuditRide
 	for _, r := range rides {
-		bal := Balance(r.PowerW, f.CPW, f.WPrimeJ, differential)
+		power, err := r.Power()
+		if err != nil {
+			continue // a ride whose power cannot be fetched gives no evidence
+		}
+		bal := Balance(power, f.CPW, f.WPrimeJ, differential)
 		lowest, at := math.Inf(1), 0
 		for i, b := range bal {
 			if b < lowest {

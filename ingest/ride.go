@@ -77,13 +77,35 @@ type Ride struct {
 	HeartRateBPM []uint8 // the second's last recorded value; 0 where none
 	CadenceRPM   []uint8 // the second's last recorded value; 0 where none
 	Quality      Quality
+	// loadPower, when set, fetches PowerW on demand (a ride answered from
+	// a store keeps its power there until something needs it).
+	loadPower func() ([]Watts, error)
+}
+
+// Power returns the ride's 1-Hz power, fetching it if it was left in a store.
+func (r *Ride) Power() ([]Watts, error) {
+	if r.PowerW != nil || r.loadPower == nil {
+		return r.PowerW, nil
+	}
+	return r.loadPower()
+}
+
+// LeavePower drops the ride's power from memory; Power fetches it with load
+// when it is needed again.
+func (r *Ride) LeavePower(load func() ([]Watts, error)) {
+	r.PowerW, r.loadPower = nil, load
 }
 
 // Date returns the ride's start date as YYYY-MM-DD in the recorded time zone.
 func (r *Ride) Date() string { return r.Start.Format("2006-01-02") }
 
 // Seconds returns the length of the ride's timeline.
-func (r *Ride) Seconds() int { return len(r.PowerW) }
+func (r *Ride) Seconds() int {
+	if r.PowerW == nil {
+		return r.Quality.Seconds
+	}
+	return len(r.PowerW)
+}
 
 // FlaggedSeconds counts the seconds of [start, start+n) that cleaning had to
 // touch or that look suspect: interpolated dropouts, zeroed gaps, removed

@@ -150,11 +150,15 @@ func Newest(curves []RideCurve) string {
 // At returns the point for the window of d seconds starting at offset
 // start of the ride: its mean power, with provenance.
 func At(r *ingest.Ride, start, d int) (Point, error) {
-	if d <= 0 || start < 0 || start+d > len(r.PowerW) {
-		return Point{}, fmt.Errorf("%s: a %d-s window from %d s does not fit in the ride's %d s", r.File, d, start, len(r.PowerW))
+	power, err := r.Power()
+	if err != nil {
+		return Point{}, err
+	}
+	if d <= 0 || start < 0 || start+d > len(power) {
+		return Point{}, fmt.Errorf("%s: a %d-s window from %d s does not fit in the ride's %d s", r.File, d, start, len(power))
 	}
 	sum := 0.0
-	for _, p := range r.PowerW[start : start+d] {
+	for _, p := range power[start : start+d] {
 		sum += p
 	}
 	return Point{DurationS: d, Watts: sum / float64(d), Source: SourceOf(r), OffsetS: start}, nil

@@ -202,7 +202,7 @@ type entry struct {
 type stored struct {
 	session, seconds   int
 	start, sport, qual string
-	power, curve       []byte
+	curve              []byte
 }
 
 // Scan reads every ride under paths as ingest.Scan does, with the rides'
@@ -229,6 +229,33 @@ func (s *Store) Scan(paths []string, opts ingest.Options) (ingest.Result, []powe
 	if workers <= 0 {
 		workers = runtime.NumCPU()
 	}
+	// one writer stores fresh results in batches, then lets their power go
+	// (it stays in the store until something needs it)
+	toWrite := make(chan *entry, 64)
+	writeErr := make(chan error, 1)
+	go func() {
+		var batch []*entry
+		var err error
+		flush := func() {
+			if err == nil && len(batch) > 0 {
+				err = s.write(batch, key)
+				if err == nil {
+					for _, e := range batch {
+						e.leavePower(s, key)
+					}
+				}
+			}
+			batch = batch[:0]
+		}
+		for e := range toWrite {
+			batch = append(batch, e)
+			if len(batch) == 32 {
+				flush()
+			}
+		}
+		flush()
+		writeErr <- err
+	}()
 	var wg sync.WaitGroup
 	var mu sync.Mutex
 	var firstErr error
@@ -240,6 +267,9 @@ func (s *Store) Scan(paths []string, opts ingest.Options) (ingest.Result, []powe
 			defer wg.Done()
 			for i := range next {
 				err := s.resolve(&es[i], key, opts)
+				if err == nil && es[i].hash != "" && (es[i].fresh || !es[i].known) {
+					toWrite <- &es[i]
+				}
 				mu.Lock()
 				if err != nil && firstErr == nil {
 					firstErr = err
@@ -257,11 +287,12 @@ func (s *Store) Scan(paths []string, opts ingest.Options) (ingest.Result, []powe
 	}
 	close(next)
 	wg.Wait()
+	close(toWrite)
+	if err := <-writeErr; err != nil && firstErr == nil {
+		firstErr = err
+	}
 	if firstErr != nil {
 		return ingest.Result{}, nil, st, firstErr
-	}
-	if err := s.write(es, key); err != nil {
-		return ingest.Result{}, nil, st, err
 	}
 	var res ingest.Result
 	res.Skipped = skipped
@@ -332,7 +363,7 @@ func (s *Store) lookupHashes(es []entry) error {
 // resolve loads the file's result from the store, or decodes it.
 func (s *Store) resolve(e *entry, key string, opts ingest.Options) error {
 	if e.loaded {
-		return e.unpack()
+		return e.unpack(s, key)
 	}
 	var data []byte
 	if e.hash == "" {
@@ -412,14 +443,14 @@ func (s *Store) load(e *entry, key string) (found bool, err error) {
 		return true, nil
 	}
 	var raws []stored
-	rows, err := s.db.Query(`SELECT session, start, sport, seconds, quality, power, curve FROM rides
+	rows, err := s.db.Query(`SELECT session, start, sport, seconds, quality, curve FROM rides
 		WHERE sha256 = ? AND options = ? ORDER BY session`, e.hash, key)
 	if err != nil {
 		return false, err
 	}
 	for rows.Next() {
 		var x stored
-		if err := rows.Scan(&x.session, &x.start, &x.sport, &x.seconds, &x.qual, &x.power, &x.curve); err != nil {
+		if err := rows.Scan(&x.session, &x.start, &x.sport, &x.seconds, &x.qual, &x.curve); err != nil {
 			rows.Close()
 			return false, err
 		}
@@ -433,11 +464,12 @@ func (s *Store) load(e *entry, key string) (found bool, err error) {
 		return false, nil // a results row without rides: decode again
 	}
 	e.raws = raws
-	return true, e.unpack()
+	return true, e.unpack(s, key)
 }
 
-// unpack turns the entry's stored rows into rides and curves.
-func (e *entry) unpack() error {
+// unpack turns the entry's stored rows into rides (their power left in the
+// store until needed) and curves.
+func (e *entry) unpack(s *Store, key string) error {
 	for _, x := range e.raws {
 		r := ingest.Ride{File: e.path, Session: x.session, Sport: x.sport}
 		var err error
@@ -447,9 +479,7 @@ func (e *entry) unpack() error {
 		if err := json.Unmarshal([]byte(x.qual), &r.Quality); err != nil {
 			return fmt.Errorf("store: %s: %w", e.path, err)
 		}
-		if r.PowerW, err = decodeFloats(x.power, x.seconds); err != nil {
-			return fmt.Errorf("store: %s: %w", e.path, err)
-		}
+		r.LeavePower(s.powerLoader(e.hash, key, r.Session, r.Quality.Seconds))
 		c, err := decodeCurve(x.curve, &r)
 		if err != nil {
 			return fmt.Errorf("store: %s: %w", e.path, err)
@@ -499,7 +529,7 @@ func (s *Store) bulkLoad(es []entry, key string) error {
 		return err
 	}
 	raws := map[string][]stored{}
-	rows, err = s.db.Query(`SELECT sha256, session, start, sport, seconds, quality, power, curve FROM rides
+	rows, err = s.db.Query(`SELECT sha256, session, start, sport, seconds, quality, curve FROM rides
 		WHERE options = ? AND sha256 IN (SELECT value FROM json_each(?)) ORDER BY sha256, session`, key, string(list))
 	if err != nil {
 		return err
@@ -507,7 +537,7 @@ func (s *Store) bulkLoad(es []entry, key string) error {
 	for rows.Next() {
 		var h string
 		var x stored
-		if err := rows.Scan(&h, &x.session, &x.start, &x.sport, &x.seconds, &x.qual, &x.power, &x.curve); err != nil {
+		if err := rows.Scan(&h, &x.session, &x.start, &x.sport, &x.seconds, &x.qual, &x.curve); err != nil {
 			rows.Close()
 			return err
 		}
@@ -530,18 +560,40 @@ func (s *Store) bulkLoad(es []entry, key string) error {
 	return nil
 }
 
-// write stores the fresh results and the files' hashes in one transaction.
-func (s *Store) write(es []entry, key string) error {
+// leavePower drops the power of freshly decoded rides (and the heart rate
+// and cadence, which the store does not keep), to be fetched on demand.
+func (e *entry) leavePower(s *Store, key string) {
+	if !e.fresh {
+		return
+	}
+	for k := range e.rides {
+		r := &e.rides[k]
+		r.HeartRateBPM, r.CadenceRPM = nil, nil
+		r.LeavePower(s.powerLoader(e.hash, key, r.Session, r.Quality.Seconds))
+	}
+}
+
+// powerLoader fetches one ride's stored power.
+func (s *Store) powerLoader(hash, key string, session, seconds int) func() ([]float64, error) {
+	return func() ([]float64, error) {
+		var blob []byte
+		err := s.db.QueryRow(`SELECT power FROM rides WHERE sha256 = ? AND options = ? AND session = ?`, hash, key, session).Scan(&blob)
+		if err != nil {
+			return nil, fmt.Errorf("store %s: %w", s.Path, err)
+		}
+		return decodeFloats(blob, seconds)
+	}
+}
+
+// write stores the entries' fresh results and the files' hashes in one
+// transaction.
+func (s *Store) write(es []*entry, key string) error {
 	tx, err := s.db.Begin()
 	if err != nil {
 		return err
 	}
 	defer tx.Rollback()
-	for i := range es {
-		e := &es[i]
-		if e.hash == "" {
-			continue
-		}
+	for _, e := range es {
 		if !e.known {
 			if _, err := tx.Exec(`INSERT OR REPLACE INTO files (path, size, mtime_ns, sha256) VALUES (?, ?, ?, ?)`,
 				e.path, e.size, e.mtime, e.hash); err != nil {
