@@ -1,10 +1,12 @@
 package main
 
 import (
+	"bufio"
 	"encoding/csv"
 	"encoding/json"
 	"fmt"
 	"io"
+	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -59,6 +61,7 @@ func curveCommand() *cli.Command {
 	flags = append(flags,
 		&cli.BoolFlag{Name: "csv", Usage: "print one CSV row per point of the curve"},
 		&cli.BoolFlag{Name: "per-ride", Usage: "print each ride's curve as one line of JSON (the map step of a batch job)"},
+		&cli.BoolFlag{Name: "reduce", Usage: "read the paths as files of --per-ride lines instead of ride files (the reduce step)"},
 		&cli.Float64Flag{Name: "mass", Usage: "rider mass in kg, to add W/kg"},
 		&cli.StringFlag{Name: "plot", Usage: "write the curve to FILE.png or FILE.svg"},
 		&cli.StringFlag{Name: "compare-from", Usage: "first date of a second window to compare with (before/after a block)"},
@@ -95,7 +98,14 @@ func curveAction(c *cli.Context) error {
 	if err := checkMassAndPlot(c); err != nil {
 		return err
 	}
-	res, curves, err := scan(c)
+	var res ingest.Result
+	var curves []powerduration.RideCurve
+	var err error
+	if c.Bool("reduce") {
+		res, curves, err = readCurveLines(c)
+	} else {
+		res, curves, err = scan(c)
+	}
 	if err != nil {
 		return err
 	}
@@ -108,7 +118,7 @@ func curveAction(c *cli.Context) error {
 			}
 		}
 		reportSkipped(c.App.ErrWriter, res.Skipped)
-		return nothingRead(res)
+		return nothingCurves(curves, res.Skipped)
 	}
 	win, err := window(c, powerduration.Newest(curves), "")
 	if err != nil {
@@ -146,10 +156,55 @@ func curveAction(c *cli.Context) error {
 			fmt.Fprintf(w, "plot written to %s\n", p)
 		}
 	}
-	if len(res.Rides) > 0 && out.Rides == 0 {
+	if len(curves) > 0 && out.Rides == 0 {
 		return cli.Exit(fmt.Sprintf("no ride between %s and %s", orOpen(win.From), orOpen(win.To)), exitNothing)
 	}
-	return nothingRead(res)
+	return nothingCurves(curves, res.Skipped)
+}
+
+// nothingCurves is the exit for a run that found no ride's curve.
+func nothingCurves(curves []powerduration.RideCurve, skipped []ingest.Skipped) error {
+	if len(curves) > 0 {
+		return nil
+	}
+	return cli.Exit(fmt.Sprintf("no ride could be read (%d files skipped)", len(skipped)), exitNothing)
+}
+
+// readCurveLines reads --per-ride lines back; a bad line skips its file.
+func readCurveLines(c *cli.Context) (ingest.Result, []powerduration.RideCurve, error) {
+	if c.NArg() == 0 {
+		return ingest.Result{}, nil, usageError{"name at least one file of --per-ride lines"}
+	}
+	var res ingest.Result
+	var curves []powerduration.RideCurve
+	for _, path := range c.Args().Slice() {
+		f, err := os.Open(path)
+		if err != nil {
+			res.Skipped = append(res.Skipped, ingest.Skipped{File: path, Reason: err.Error()})
+			continue
+		}
+		dec := json.NewDecoder(bufio.NewReader(f))
+		var got []powerduration.RideCurve
+		for line := 1; ; line++ {
+			var k powerduration.Compact
+			if err = dec.Decode(&k); err != nil {
+				break
+			}
+			rc, e := k.Expand()
+			if e != nil {
+				err = fmt.Errorf("curve %d: %v", line, e)
+				break
+			}
+			got = append(got, rc)
+		}
+		f.Close()
+		if err != io.EOF {
+			res.Skipped = append(res.Skipped, ingest.Skipped{File: path, Reason: "not --per-ride lines: " + err.Error()})
+			continue
+		}
+		curves = append(curves, got...)
+	}
+	return res, curves, nil
 }
 
 func countTrue(bs ...bool) int {

@@ -2,6 +2,7 @@ package main
 
 import (
 	"bufio"
+	"fmt"
 	"encoding/json"
 	"image/png"
 	"math"
@@ -148,5 +149,32 @@ func TestCurveUsageAndEmptyWindow(t *testing.T) {
 	}
 	if code, _, _ := runCmd(t, "curve", dir, "--from", "2025-01-01", "--to", "2025-02-01"); code != exitNothing {
 		t.Errorf("empty window: exit %d, want %d", code, exitNothing)
+	}
+}
+
+// The map (--per-ride lines, in parts) and the reduce (--reduce) give the
+// same best-of curve as reading the rides at once.
+func TestCurveMapReduce(t *testing.T) {
+	dir := twoBlockFolder(t)
+	files, _ := filepath.Glob(filepath.Join(dir, "a", "*.fit"))
+	out := t.TempDir()
+	var parts []string
+	for i, half := range [][]string{files[:3], files[3:]} {
+		code, lines, _ := runCmd(t, append([]string{"curve", "--per-ride", "--no-store"}, half...)...)
+		if code != exitOK {
+			t.Fatalf("map %d: exit %d", i, code)
+		}
+		p := filepath.Join(out, fmt.Sprintf("part%d.jsonl", i))
+		os.WriteFile(p, []byte(lines), 0o644)
+		parts = append(parts, p)
+	}
+	_, reduced, _ := runCmd(t, append([]string{"curve", "--reduce", "--json"}, parts...)...)
+	_, direct, _ := runCmd(t, "curve", dir, "--json")
+	if reduced != direct || !strings.Contains(direct, `"duration_s": 3600`) {
+		t.Errorf("reduce differs from a direct scan:\n%.300s\n%.300s", reduced, direct)
+	}
+	os.WriteFile(filepath.Join(out, "junk.jsonl"), []byte("{not json"), 0o644)
+	if code, _, _ := runCmd(t, "curve", "--reduce", filepath.Join(out, "junk.jsonl")); code != exitNothing {
+		t.Errorf("junk lines: exit %d", code)
 	}
 }
