@@ -99,16 +99,19 @@ func Each(files []string, opts Options, fn func(i int, rides []Ride, err error))
 
 // SortRides orders rides by start time, then path, then session.
 func SortRides(rides []Ride) {
-	sort.SliceStable(rides, func(a, b int) bool {
-		ra, rb := &rides[a], &rides[b]
-		if !ra.Start.Equal(rb.Start) {
-			return ra.Start.Before(rb.Start)
-		}
-		if ra.File != rb.File {
-			return ra.File < rb.File
-		}
-		return ra.Session < rb.Session
-	})
+	sort.SliceStable(rides, func(a, b int) bool { return RideBefore(&rides[a], &rides[b]) })
+}
+
+// RideBefore is the order of rides in every result: start time, then path,
+// then session.
+func RideBefore(ra, rb *Ride) bool {
+	if !ra.Start.Equal(rb.Start) {
+		return ra.Start.Before(rb.Start)
+	}
+	if ra.File != rb.File {
+		return ra.File < rb.File
+	}
+	return ra.Session < rb.Session
 }
 
 func reasonOf(err error) string {

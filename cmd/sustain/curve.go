@@ -248,6 +248,11 @@ func isPlotName(p string) bool {
 	return ext == ".png" || ext == ".svg"
 }
 
+// effortRow is a tab-separated row naming an effort and where it was ridden.
+func effortRow(p powerduration.Point) string {
+	return fmt.Sprintf("  %s\t%.0f W\t%s\tat %s in %s", durationLabel(p.DurationS), p.Watts, p.Date, clock(p.OffsetS), p.File)
+}
+
 // durationLabel writes a duration as a rider says it: 5 s, 8 min, 1 h 30 min.
 func durationLabel(s int) string {
 	switch {

@@ -262,7 +262,7 @@ func renderEstimate(w io.Writer, out estimateOut, massKG float64) {
 			if e.FlaggedS > 0 {
 				flag = fmt.Sprintf("  (%d s repaired or suspect)", e.FlaggedS)
 			}
-			fmt.Fprintf(tw, "  %s\t%.0f W\t%s\tat %s in %s%s\n", durationLabel(e.DurationS), e.Watts, e.Date, clock(e.OffsetS), e.File, flag)
+			fmt.Fprintln(tw, effortRow(e.Point)+flag)
 		}
 		tw.Flush()
 		nested, padded := 0, 0

@@ -195,7 +195,7 @@ func renderTrials(w io.Writer, es []estimate.Effort, t estimate.Trials) {
 	fmt.Fprintln(w, "Multi-trial critical-power test (2-parameter model, Monod & Scherrer 1965)")
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	for _, e := range es {
-		fmt.Fprintf(tw, "  %s\t%.0f W\t%s\tat %s in %s\n", durationLabel(e.DurationS), e.Watts, e.Date, clock(e.OffsetS), e.File)
+		fmt.Fprintln(tw, effortRow(e.Point))
 	}
 	tw.Flush()
 	fmt.Fprintf(w, "\n  CP %.1f W ± %.1f (%.1f %%)   W′ %.1f kJ ± %.1f (%.0f %%)\n", t.Fit.CPW, t.Fit.CPSEW, t.CPSEPct, t.Fit.WPrimeJ/1000, t.Fit.WPrimeSEJ/1000, t.WSEPct)

@@ -316,16 +316,7 @@ func (s *Store) Scan(paths []string, opts ingest.Options) (ingest.Result, []powe
 			all = append(all, pair{e.rides[k], e.curves[k]})
 		}
 	}
-	sort.SliceStable(all, func(a, b int) bool {
-		ra, rb := &all[a].r, &all[b].r
-		if !ra.Start.Equal(rb.Start) {
-			return ra.Start.Before(rb.Start)
-		}
-		if ra.File != rb.File {
-			return ra.File < rb.File
-		}
-		return ra.Session < rb.Session
-	})
+	sort.SliceStable(all, func(a, b int) bool { return ingest.RideBefore(&all[a].r, &all[b].r) })
 	curves := make([]powerduration.RideCurve, len(all))
 	for i, p := range all {
 		res.Rides = append(res.Rides, p.r)
