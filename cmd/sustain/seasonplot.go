@@ -41,7 +41,7 @@ func plotSeason(path string, rep estimate.SeasonReport, title string) error {
 		{"W′ (kJ)", inkCompare, func(w estimate.SeasonWindow) (float64, float64) { return w.WPrimeJ / 1000, w.WPrimeSEJ / 1000 }},
 		{"Pmax (W)", inkModel[1], func(w estimate.SeasonWindow) (float64, float64) { return w.PmaxW, w.PmaxSEW }},
 	}
-	var plots [][]*plot.Plot
+	var plots []*plot.Plot
 	for k, s := range all {
 		p := plot.New()
 		if k == 0 {
@@ -104,9 +104,9 @@ func plotSeason(path string, rep estimate.SeasonReport, title string) error {
 		if k == len(all)-1 {
 			p.X.Label.Text = "end of window"
 		}
-		plots = append(plots, []*plot.Plot{p})
+		plots = append(plots, p)
 	}
-	return saveTiles(path, []*plot.Plot{plots[0][0], plots[1][0], plots[2][0]}, 22*vg.Centimeter, 22*vg.Centimeter)
+	return saveTiles(path, plots, 22*vg.Centimeter, 22*vg.Centimeter)
 }
 
 // saveTiles draws plots one above the other into a PNG or SVG file.
