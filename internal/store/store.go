@@ -68,12 +68,16 @@ func DefaultPath() (string, error) {
 	return filepath.Join(dir, "sustain", "rides.db"), nil
 }
 
-// Open opens or creates the store at path.
-func Open(path string) (*Store, error) {
+// Open opens or creates the store at path. A run waits up to 10 s for
+// another run's transaction.
+func Open(path string) (*Store, error) { return OpenWait(path, 10*time.Second) }
+
+// OpenWait is Open with the longest wait for another run's lock.
+func OpenWait(path string, wait time.Duration) (*Store, error) {
 	if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
 		return nil, fmt.Errorf("store %s: %w", path, err)
 	}
-	s, err := open(path)
+	s, err := open(path, wait)
 	if err == nil {
 		return s, nil
 	}
@@ -88,7 +92,7 @@ func Open(path string) (*Store, error) {
 	for _, suffix := range []string{"-wal", "-shm"} {
 		os.Remove(path + suffix)
 	}
-	s, err2 := open(path)
+	s, err2 := open(path, wait)
 	if err2 != nil {
 		return nil, fmt.Errorf("store %s: %w", path, err2)
 	}
@@ -98,10 +102,10 @@ func Open(path string) (*Store, error) {
 
 var errLocked = errors.New("database is locked")
 
-func open(path string) (*Store, error) {
+func open(path string, wait time.Duration) (*Store, error) {
 	// WAL: readers do not block the writer; busy_timeout: a second run
 	// waits for the first one's transaction instead of failing.
-	dsn := "file:" + path + "?_pragma=busy_timeout(10000)&_pragma=journal_mode(WAL)&_pragma=synchronous(NORMAL)"
+	dsn := fmt.Sprintf("file:%s?_pragma=busy_timeout(%d)&_pragma=journal_mode(WAL)&_pragma=synchronous(NORMAL)", path, wait.Milliseconds())
 	db, err := sql.Open("sqlite", dsn)
 	if err != nil {
 		return nil, err

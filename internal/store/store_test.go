@@ -155,3 +155,35 @@ func TestDamagedAndOldStores(t *testing.T) {
 		t.Errorf("damaged store not kept aside: %v", aside)
 	}
 }
+
+// A store another run holds locked is reported, never waited on forever
+// nor rebuilt.
+func TestLockedStoreIsReported(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "rides.db")
+	holder, err := Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer holder.Close()
+	conn, err := holder.db.Conn(t.Context())
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer conn.Close()
+	if _, err := conn.ExecContext(t.Context(), `BEGIN EXCLUSIVE`); err != nil {
+		t.Fatal(err)
+	}
+	defer conn.ExecContext(t.Context(), `ROLLBACK`)
+	dir := season(t, 1)
+	s, err := OpenWait(path, 200*time.Millisecond)
+	if err == nil {
+		_, _, _, err = s.Scan([]string{dir}, ingest.Options{})
+		s.Close()
+	}
+	if err == nil || !strings.Contains(err.Error(), "locked") {
+		t.Errorf("a locked store gave %v", err)
+	}
+	if aside, _ := filepath.Glob(path + ".damaged-*"); len(aside) != 0 {
+		t.Errorf("a locked store was taken for damaged: %v", aside)
+	}
+}
