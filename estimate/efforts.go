@@ -29,6 +29,9 @@ type Effort struct {
 	// Group numbers the distinct efforts: used efforts whose windows overlap
 	// in the same ride share a group.
 	Group int `json:"group"`
+	// InsideS, for a nested effort, is the duration of the longest effort
+	// of its ride that it is part of.
+	InsideS int `json:"inside_s,omitempty"`
 }
 
 // rideKey identifies a ride for provenance look-ups.
@@ -39,20 +42,26 @@ type rideKey struct {
 
 func keyOfPoint(p powerduration.Point) rideKey { return rideKey{p.File, p.Session} }
 
-// nestedShare: when a longer window contains a shorter one, the rest of the
-// longer window has mean power P_rest. P_rest ≥ 80 % of the shorter
-// window's power says the shorter best is a piece of one sustained effort
-// (nested); less says the longer best is the shorter effort padded with
-// easier riding (common practice: recovery and endurance riding are far
-// below a maximal effort).
-const nestedShare = 0.8
+// When a longer window contains a shorter one, the rest of the longer
+// window has mean power P_rest (common practice: recovery and endurance
+// riding are far below a maximal effort):
+//   - P_rest ≥ nestedShare × the shorter window's power: the shorter best is
+//     a piece of one sustained effort (nested);
+//   - P_rest < paddedShare × the longer window's power: the longer best is
+//     the shorter effort padded with easier riding (padded). A long steady
+//     effort with a sprint inside it is neither: its rest is ridden at its
+//     own mean power.
+const (
+	nestedShare = 0.8
+	paddedShare = 0.8
+)
 
 // SelectEfforts takes the curve's points at the candidate durations within
 // [minS, maxS] and judges each against the other windows of its own ride:
 //   - nested: the ride's best window of a longer candidate duration contains
 //     it and the rest of that window is ridden nearly as hard;
 //   - padded: it contains the ride's best window of a shorter candidate
-//     duration and the rest of it is ridden far easier;
+//     duration and the rest of it is ridden far below its own mean;
 //   - used: neither, a maximal effort of its own.
 //
 // rides and own (either may be nil) give each ride's quality report and
@@ -76,28 +85,48 @@ func SelectEfforts(c powerduration.Curve, minS, maxS int, rides map[rideKey]*ing
 	}
 	for i := range es {
 		e := es[i].Point
-		var rc interface {
-			At(int) (powerduration.Point, bool)
-		} = c
+		var rc pointsAt = c
 		if r, ok := own[keyOfPoint(e)]; ok {
 			rc = r
 		}
+		if padded(rc, e) {
+			es[i].Status = EffortPadded
+			continue
+		}
+		// nested in a longer effort of the ride (never in a padded window)
 		for _, d := range candidateDurations {
 			q, ok := rc.At(d)
-			if !ok || d == e.DurationS || !q.Same(e) {
+			if !ok || d <= e.DurationS || !q.Same(e) {
 				continue
 			}
-			if d > e.DurationS && contains(q, e) && restPower(q, e) >= nestedShare*e.Watts {
+			if contains(q, e) && restPower(q, e) >= nestedShare*e.Watts && !padded(rc, q) {
 				es[i].Status = EffortNested
-			}
-			if d < e.DurationS && contains(e, q) && restPower(e, q) < nestedShare*q.Watts {
-				es[i].Status = EffortPadded
-				break
+				es[i].InsideS = d
 			}
 		}
 	}
 	groupEfforts(es)
 	return es
+}
+
+// pointsAt is a curve: a ride's own, or a best-of.
+type pointsAt interface {
+	At(int) (powerduration.Point, bool)
+}
+
+// padded reports whether window e of a ride holds a shorter best of the
+// same ride and is otherwise ridden far below its own mean.
+func padded(rc pointsAt, e powerduration.Point) bool {
+	for _, d := range candidateDurations {
+		if d >= e.DurationS {
+			return false
+		}
+		q, ok := rc.At(d)
+		if ok && q.Same(e) && contains(e, q) && restPower(e, q) < paddedShare*e.Watts {
+			return true
+		}
+	}
+	return false
 }
 
 // contains reports whether window a (same ride) contains window b.

@@ -172,21 +172,24 @@ func (c gradeContext) warnings(rep Report) []Warning {
 	case len(band) == 0:
 		ws = append(ws, Warning{WarnThinData, fmt.Sprintf("No maximal effort between %s and %s in this window.", lo, hi)})
 	}
-	nested := 0
+	// the longer effort that holds most of the nested bests
+	nested, most := 0, 0
 	var host Effort
+	holds := map[string]int{}
 	for _, e := range c.efforts {
 		if e.Status == EffortNested && e.DurationS >= c.opts.CP2MinS && e.DurationS <= c.opts.CP2MaxS {
 			nested++
-		}
-		if e.Status == EffortUsed && e.DurationS > host.DurationS && e.DurationS <= 2*c.opts.CP2MaxS {
-			host = e
+			k := fmt.Sprintf("%s|%d|%d", e.File, e.Session, e.InsideS)
+			if holds[k]++; holds[k] > most {
+				most, host = holds[k], e
+			}
 		}
 	}
 	n := distinct(band)
 	if nested > 0 && n < 3 {
 		where := ""
 		if host.Source != nil {
-			where = fmt.Sprintf(" (%s, %s on %s)", minutes(host.DurationS), host.File, host.Date)
+			where = fmt.Sprintf(" (a %s effort, %s on %s)", minutes(host.InsideS), host.File, host.Date)
 		}
 		ws = append(ws, Warning{WarnNested, fmt.Sprintf("%d of your best powers between %s and %s are only parts of a longer effort%s, not efforts of their own: they cannot show how power falls with duration.", nested, lo, hi, where)})
 	}

@@ -2,6 +2,7 @@ package estimate
 
 import (
 	"math"
+	"strings"
 	"testing"
 	"time"
 
@@ -173,6 +174,11 @@ func TestSingleTwentyMinuteEffort(t *testing.T) {
 	rep := Estimate(rides, curves, powerduration.Window{}, Options{})
 	if !hasWarning(rep, WarnNested) {
 		t.Errorf("no nested-efforts warning: %v", rep.Warnings)
+	}
+	for _, w := range rep.Warnings {
+		if w.Code == WarnNested && !strings.Contains(w.Message, "(a 20 min effort, 2026-04-02-") {
+			t.Errorf("the warning does not name the 20-min effort: %s", w.Message)
+		}
 	}
 	if rep.Threshold == nil || rep.Threshold.Confidence != Low {
 		t.Errorf("threshold %+v", rep.Threshold)
