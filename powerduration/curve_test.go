@@ -285,3 +285,15 @@ func TestBestOfIsMergeFold(t *testing.T) {
 		t.Error("BestOf differs from folding Merge")
 	}
 }
+
+func TestConsecutiveWindows(t *testing.T) {
+	mk := func(date string) RideCurve { return RideCurve{Source: &Source{Date: date}} }
+	ws := Consecutive([]RideCurve{mk("2026-03-02"), mk("2026-04-20"), mk("2026-03-30")}, 28)
+	want := []Window{{"2026-02-24", "2026-03-23"}, {"2026-03-24", "2026-04-20"}}
+	if len(ws) != len(want) || ws[0] != want[0] || ws[1] != want[1] {
+		t.Errorf("windows %v, want %v", ws, want)
+	}
+	if ws := Consecutive(nil, 28); len(ws) != 0 {
+		t.Errorf("no rides: %v", ws)
+	}
+}

@@ -125,6 +125,28 @@ func LastDays(end string, days int) Window {
 	return Window{From: t.AddDate(0, 0, -(days - 1)).Format("2006-01-02"), To: end}
 }
 
+// Consecutive are windows of the given number of days that do not overlap,
+// the last ending at the newest ride, back to the first ride, oldest first.
+func Consecutive(curves []RideCurve, days int) []Window {
+	first, newest := "", Newest(curves)
+	for _, c := range curves {
+		if first == "" || c.Date < first {
+			first = c.Date
+		}
+	}
+	var ws []Window
+	for end := newest; end != "" && end >= first; {
+		w := LastDays(end, days)
+		ws = append([]Window{w}, ws...)
+		t, err := ParseDate(w.From)
+		if err != nil {
+			break
+		}
+		end = t.AddDate(0, 0, -1).Format("2006-01-02")
+	}
+	return ws
+}
+
 // InWindow keeps the curves of rides whose date lies in w.
 func InWindow(curves []RideCurve, w Window) []RideCurve {
 	var out []RideCurve

@@ -9,7 +9,6 @@ import (
 	"strconv"
 	"strings"
 	"text/tabwriter"
-	"time"
 
 	"github.com/sustain-cycling/sustain/estimate"
 	"github.com/sustain-cycling/sustain/ingest"
@@ -80,19 +79,10 @@ func compareAction(c *cli.Context) error {
 			return err
 		}
 		skipped = res.Skipped
-		first := ""
-		if len(res.Rides) > 0 {
-			first = res.Rides[0].Date()
-		}
-		// consecutive windows back from the newest ride, each with rides
-		for end := powerduration.Newest(curves); end != "" && end >= first; {
-			w := powerduration.LastDays(end, days)
-			rep := estimate.Estimate(res.Rides, curves, w, eo)
-			if rep.Rides > 0 {
-				subjects = append([]estimate.Subject{{Name: w.From + "–" + w.To, Estimates: estimate.ByMethod(rep)}}, subjects...)
+		for _, w := range powerduration.Consecutive(curves, days) {
+			if rep := estimate.Estimate(res.Rides, curves, w, eo); rep.Rides > 0 {
+				subjects = append(subjects, estimate.Subject{Name: w.From + "–" + w.To, Estimates: estimate.ByMethod(rep)})
 			}
-			t, _ := time.Parse("2006-01-02", w.From)
-			end = t.AddDate(0, 0, -1).Format("2006-01-02")
 		}
 	}
 	pairs := estimate.Compare(subjects, methods)
