@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"math"
 
-	"gonum.org/v1/gonum/mat"
 )
 
 // Fit is one model fitted to efforts. Pmax and A are zero where the model
@@ -22,10 +21,9 @@ type Fit struct {
 	PmaxSEW   float64
 	RMSEW     float64 // root-mean-square residual, watts
 	Efforts   []Effort
-	// cov is the parameter covariance; jac the Jacobian rows at the
-	// efforts (hyperbolic 2-parameter fit only, for advice).
-	cov *mat.SymDense
-	s2  float64
+	// s2 is the residual variance of the hyperbolic 2-parameter fit,
+	// which the advice scales its hypothetical covariance by.
+	s2 float64
 	Grade
 }
 
@@ -112,7 +110,7 @@ func fitCP2(es []Effort) ([]Fit, error) {
 		return nil, err
 	}
 	hyper := Fit{Model: ModelCP2, CPW: sol.Params[0], WPrimeJ: sol.Params[1], CPSEW: sol.StdErr[0], WPrimeSEJ: sol.StdErr[1],
-		Efforts: es, cov: sol.Cov, s2: sol.RSS / float64(len(t)-2)}
+		Efforts: es, s2: sol.RSS / float64(len(t)-2)}
 	hyper.RMSEW = math.Sqrt(sol.RSS / float64(len(t)))
 	invFit := Fit{Model: ModelCP2Inverse, CPW: cpI, WPrimeJ: wI, CPSEW: seCPI, WPrimeSEJ: seWI, Efforts: es, RMSEW: math.Sqrt(rssI / float64(len(t)))}
 	workFit := Fit{Model: ModelCP2Work, CPW: cpW, WPrimeJ: wW, CPSEW: seCPW, WPrimeSEJ: seWW, Efforts: es}
@@ -154,7 +152,7 @@ func fitMorton(es []Effort, cp0, w0, pmax0 float64) (Fit, error) {
 		return Fit{}, err
 	}
 	f := Fit{Model: ModelMorton, CPW: sol.Params[0], WPrimeJ: sol.Params[1], PmaxW: sol.Params[2],
-		CPSEW: sol.StdErr[0], WPrimeSEJ: sol.StdErr[1], PmaxSEW: sol.StdErr[2], Efforts: es, cov: sol.Cov}
+		CPSEW: sol.StdErr[0], WPrimeSEJ: sol.StdErr[1], PmaxSEW: sol.StdErr[2], Efforts: es}
 	f.RMSEW = rmse(f, t, p)
 	if !(f.PmaxW > f.CPW) || math.IsNaN(f.CPW) {
 		return f, fmt.Errorf("fit has Pmax (%.0f W) at or below CP (%.0f W)", f.PmaxW, f.CPW)
@@ -194,7 +192,7 @@ func fitOmni(es []Effort, cp0, w0, pmax0 float64) (Fit, error) {
 		return Fit{}, err
 	}
 	fit := Fit{Model: ModelOmni, CPW: sol.Params[0], WPrimeJ: sol.Params[1], PmaxW: sol.Params[2],
-		CPSEW: sol.StdErr[0], WPrimeSEJ: sol.StdErr[1], PmaxSEW: sol.StdErr[2], Efforts: es, cov: sol.Cov}
+		CPSEW: sol.StdErr[0], WPrimeSEJ: sol.StdErr[1], PmaxSEW: sol.StdErr[2], Efforts: es}
 	if withA {
 		fit.A = sol.Params[3]
 	}
