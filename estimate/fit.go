@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-
 )
 
 // Fit is one model fitted to efforts. Pmax and A are zero where the model
