@@ -265,6 +265,21 @@ func sportAccepted(sport string, opts Options) bool {
 	return opts.AnySport || sport == "cycling" || sport == "unknown"
 }
 
+// ReadBytesOf reads a whole file, within the same 1-GiB bound as ReadFile;
+// an error is the reason alone (the caller names the file).
+func ReadBytesOf(path string) ([]byte, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, unwrapPathError(err)
+	}
+	defer f.Close()
+	b, err := io.ReadAll(&capReader{f, maxFileBytes})
+	if errors.Is(err, errTooLarge) {
+		return nil, errors.New("file is larger than 1 GiB")
+	}
+	return b, err
+}
+
 // ReadBytes decodes the rides of a file already in memory (for callers that
 // also hash it). Like ReadFile, a CSV of elapsed seconds is dated by a date
 // in the file's name, else by fallbackStart. Errors are *FileError.

@@ -19,7 +19,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -362,7 +361,7 @@ func (s *Store) resolve(e *entry, key string, opts ingest.Options) error {
 	}
 	var data []byte
 	if e.hash == "" {
-		b, err := readCapped(e.path)
+		b, err := ingest.ReadBytesOf(e.path)
 		if err != nil {
 			e.reason = err.Error()
 			return nil
@@ -376,7 +375,7 @@ func (s *Store) resolve(e *entry, key string, opts ingest.Options) error {
 		return err
 	}
 	if data == nil {
-		b, err := readCapped(e.path)
+		b, err := ingest.ReadBytesOf(e.path)
 		if err != nil {
 			e.reason = err.Error()
 			return nil
@@ -401,26 +400,6 @@ func (s *Store) resolve(e *entry, key string, opts ingest.Options) error {
 		e.curves[i] = powerduration.OfRide(&e.rides[i])
 	}
 	return nil
-}
-
-func readCapped(path string) ([]byte, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		var pe *os.PathError
-		if errors.As(err, &pe) {
-			return nil, pe.Err
-		}
-		return nil, err
-	}
-	defer f.Close()
-	b, err := io.ReadAll(io.LimitReader(f, 1<<30+1))
-	if err != nil {
-		return nil, err
-	}
-	if len(b) > 1<<30 {
-		return nil, errors.New("file is larger than 1 GiB")
-	}
-	return b, nil
 }
 
 // load reads a stored result; found is false when the store has none.
