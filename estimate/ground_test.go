@@ -50,14 +50,7 @@ func wellTested(a synth.Athlete) []synth.Track {
 	return tr
 }
 
-func hasWarning(rep Report, code string) bool {
-	for _, w := range rep.Warnings {
-		if w.Code == code {
-			return true
-		}
-	}
-	return false
-}
+func hasWarning(rep Report, code string) bool { return hasCode(rep.Warnings, code) }
 
 func within(t *testing.T, what string, got, want, rel float64) {
 	t.Helper()
