@@ -1,7 +1,7 @@
 # sustain: threshold power from ride files. See README.md.
 GO ?= go
 
-.PHONY: build test bench demo fuzz
+.PHONY: build test bench demo fuzz accuracy
 
 build:
 	$(GO) build -o bin/sustain ./cmd/sustain
@@ -24,3 +24,8 @@ demo:
 # a short run of each fuzz test (crashers land in the package's testdata/fuzz)
 fuzz:
 	for f in FuzzTCX FuzzCSV FuzzFIT FuzzClean; do $(GO) test ./ingest -run '^$$' -fuzz "^$$f$$" -fuzztime 30s || exit 1; done
+
+# how well the estimates recover the truth of invented seasons of every
+# kind and truth model (a report, like bench; not a timed test)
+accuracy:
+	$(GO) run ./internal/accuracy/report -seeds 20

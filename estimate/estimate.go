@@ -58,14 +58,22 @@ type Rule struct {
 }
 
 // Threshold is the headline: the critical power of the best-supported
-// model, with a range.
+// model, with a range. When the data cannot support a number, Reason says
+// why, Watts and the range are zero, and FloorW (when not zero) is a power
+// the threshold is at least (FloorRule says which).
 type Threshold struct {
 	Watts      float64 `json:"watts"`
 	LowW       float64 `json:"low_w"`
 	HighW      float64 `json:"high_w"`
 	Model      string  `json:"model"`
 	Confidence string  `json:"confidence"`
+	Reason     string  `json:"reason,omitempty"`
+	FloorW     float64 `json:"floor_w,omitempty"`
+	FloorRule  string  `json:"floor_rule,omitempty"`
 }
+
+// Estimated reports whether the threshold is a number (not "not estimated").
+func (t *Threshold) Estimated() bool { return t != nil && t.Reason == "" }
 
 // Advice names the effort that would tighten CP the most.
 type Advice struct {

@@ -57,6 +57,9 @@ type SeasonReport struct {
 	// one a window length earlier) and from the first estimated window to
 	// the last.
 	Changes []Change
+	// OverallChanges are the changes from the first estimated window to
+	// the last.
+	OverallChanges []Change
 	// Overall names what moved from first to last, or that nothing did.
 	Overall string
 }
@@ -85,7 +88,7 @@ func Season(rides []ingest.Ride, curves []powerduration.RideCurve, opts SeasonOp
 		r := Estimate(rides, curves, w, opts.Options)
 		rep.Windows = append(rep.Windows, seasonWindow(r, opts.Components))
 	}
-	rep.Changes, rep.Overall = changes(rep.Windows, opts.WindowDays/opts.StepDays)
+	rep.Changes, rep.OverallChanges, rep.Overall = changes(rep.Windows, opts.WindowDays/opts.StepDays)
 	return rep
 }
 
@@ -147,7 +150,7 @@ func hasCode(ws []Warning, code string) bool {
 
 // changes compares each estimated window with the estimated window `apart`
 // steps earlier (so the two share no ride), and the first with the last.
-func changes(ws []SeasonWindow, apart int) ([]Change, string) {
+func changes(ws []SeasonWindow, apart int) ([]Change, []Change, string) {
 	apart = max(apart, 1)
 	var out []Change
 	for i := range ws {
@@ -164,18 +167,18 @@ func changes(ws []SeasonWindow, apart int) ([]Change, string) {
 		}
 	}
 	if len(est) < 2 {
-		return out, "Too few windows with enough data to say what changed."
+		return out, nil, "Too few windows with enough data to say what changed."
 	}
 	a, b := est[0], est[len(est)-1]
 	overall := compare(a, b)
 	if len(overall) == 0 {
-		return out, fmt.Sprintf("From %s–%s to %s–%s no component moved beyond its uncertainty.", a.From, a.To, b.From, b.To)
+		return out, nil, fmt.Sprintf("From %s–%s to %s–%s no component moved beyond its uncertainty.", a.From, a.To, b.From, b.To)
 	}
 	s := fmt.Sprintf("From %s–%s to %s–%s:", a.From, a.To, b.From, b.To)
 	for _, c := range overall {
 		s += " " + c.Message
 	}
-	return out, s
+	return out, overall, s
 }
 
 // compare names the components that moved from a to b.

@@ -13,19 +13,49 @@ import (
 	"time"
 )
 
+// Truth models: the power-duration relation an invented athlete's maximal
+// power follows. Ground truth comes from all of them, so that no fitted
+// model is favoured by data generated from itself.
+const (
+	// TruthMorton is Morton's 3-parameter model (Morton 1996):
+	// P(t) = CP + W′/(t + W′/(Pmax − CP)). The zero value.
+	TruthMorton = ""
+	// TruthCP2 is the 2-parameter model (Monod & Scherrer 1965),
+	// P(t) = CP + W′/t, capped at Pmax for the shortest durations.
+	TruthCP2 = "cp2"
+	// TruthOmni is the omni-domain model (Puchowicz, Baker & Clarke 2020):
+	// P(t) = W′/t·(1 − e^(−t·(Pmax − CP)/W′)) + CP.
+	TruthOmni = "omni"
+)
+
 // Athlete is an invented rider whose best sustainable power for t seconds
-// follows Morton's 3-parameter model (Morton 1996):
-// P(t) = CP + W′/(t + W′/(Pmax − CP)).
+// follows one truth model (Truth, Morton's by default) up to 1800 s and,
+// beyond that, declines by A watts per unit of ln(t/1800) as in the
+// omni-domain model's long-duration term (no one holds CP for hours).
 type Athlete struct {
 	Name    string
+	Truth   string  // TruthMorton, TruthCP2 or TruthOmni
 	CPW     float64 // critical power, watts
 	WPrimeJ float64 // W′, joules
 	PmaxW   float64 // peak power, watts
+	A       float64 // long-duration decline, W per unit of ln(t/1800)
 }
 
 // MaxPower returns the highest mean power the athlete can hold for t seconds.
 func (a Athlete) MaxPower(t float64) float64 {
-	return a.CPW + a.WPrimeJ/(t+a.WPrimeJ/(a.PmaxW-a.CPW))
+	var p float64
+	switch a.Truth {
+	case TruthCP2:
+		p = math.Min(a.PmaxW, a.CPW+a.WPrimeJ/t)
+	case TruthOmni:
+		p = a.WPrimeJ/t*(1-math.Exp(-t*(a.PmaxW-a.CPW)/a.WPrimeJ)) + a.CPW
+	default:
+		p = a.CPW + a.WPrimeJ/(t+a.WPrimeJ/(a.PmaxW-a.CPW))
+	}
+	if t > 1800 {
+		p -= a.A * math.Log(t/1800)
+	}
+	return p
 }
 
 // Segment is a stretch of steady target power.
@@ -45,6 +75,7 @@ type Track struct {
 	HeartRateBPM []float64 // optional
 	CadenceRPM   []float64 // optional
 	Skip         []bool    // optional
+	Efforts      []Mark    // the maximal efforts it holds, where known
 }
 
 // Build renders segments to 1-Hz power: Gaussian noise of noiseW on the
