@@ -23,9 +23,20 @@ const (
 	// MaxTimelineS is the longest timeline accepted (48 h); a longer one is
 	// a clock error, and refusing it avoids a huge allocation.
 	MaxTimelineS = 48 * 3600
+	// Relative spikes (common practice for power-meter glitches): a run of
+	// at most MaxSpikeRunS seconds whose power is more than SpikeRatio
+	// times both neighbouring seconds and more than SpikeExcessW above
+	// them. No rider goes from 300 W to 900 W and back within two
+	// seconds; a real sprint lasts several.
+	MaxSpikeRunS = 2
+	SpikeRatio   = 2.0
+	SpikeExcessW = 300.0
+	// SuspectMarginS: seconds on each side of a removed spike that are
+	// not used inside a maximal effort (the meter misbehaved there).
+	SuspectMarginS = 2
 	// PolicyVersion changes whenever the cleaning policy changes, so that
 	// stored results computed under an older policy can be recognised.
-	PolicyVersion = 1
+	PolicyVersion = 2
 )
 
 // Sample is one recorded point before cleaning. Time is Unix seconds (with
@@ -76,10 +87,12 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 	// the cleaning policy does not cover, keep the second's last value.
 	power := make([]float64, n)
 	count := make([]int32, n)
+	seen := make([]bool, n) // a sample was recorded in the second, with or without power
 	hrcad := make([]uint8, 2*n)
 	hr, cad := hrcad[:n:n], hrcad[n:]
 	for _, s := range samples {
 		b := int(s.UnixS - origin)
+		seen[b] = true
 		p := s.Power
 		switch {
 		case math.IsNaN(p):
@@ -110,10 +123,22 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 	if valid == 0 {
 		return Ride{}, ErrNoPower
 	}
+	valid -= removeRelativeSpikes(power, count, &q)
+	if valid == 0 {
+		return Ride{}, ErrNoPower
+	}
 	q.Seconds = n
 	q.PowerCoverage = float64(valid) / float64(n)
 	slices.Sort(q.SpikeOffsetsS)
 	q.SpikeOffsetsS = slices.Compact(q.SpikeOffsetsS)
+	q.RecordingIntervalS = recordingInterval(samples)
+	// the longest step between samples that is the ride's normal
+	// recording (a head unit's "smart" recording writes every 1–6 s):
+	// seconds filled between such samples are not repairs
+	normalStep := 1.0
+	if q.RecordingIntervalS > 1 {
+		normalStep = math.Min(MaxFilledRunS+1, math.Ceil(2*q.RecordingIntervalS))
+	}
 
 	// Missing runs: short ones between valid seconds are interpolated,
 	// everything else is 0 W.
@@ -133,8 +158,12 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 				f := float64(k-i+1) / float64(j-i+1)
 				power[k] = a + (b-a)*f
 			}
-			q.Dropouts = append(q.Dropouts, run)
-			q.DropoutSeconds += run.Seconds
+			if float64(run.Seconds+1) <= normalStep && !slices.Contains(seen[i:j], true) {
+				q.FilledSeconds += run.Seconds
+			} else {
+				q.Dropouts = append(q.Dropouts, run)
+				q.DropoutSeconds += run.Seconds
+			}
 		} else {
 			// power[k] is already 0
 			q.Gaps = append(q.Gaps, run)
@@ -154,7 +183,6 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 		}
 		i = j
 	}
-	q.RecordingIntervalS = recordingInterval(samples)
 
 	sec, frac := math.Modf(origin)
 	return Ride{
@@ -166,11 +194,46 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 	}, nil
 }
 
-// recordingInterval returns the most common positive step between
-// consecutive samples, to the millisecond.
+// removeRelativeSpikes treats as missing every run of at most
+// MaxSpikeRunS valid seconds far above both neighbouring valid seconds
+// (see SpikeRatio), counting them as spikes; it returns how many seconds
+// it removed.
+func removeRelativeSpikes(power []float64, count []int32, q *Quality) int {
+	removed := 0
+	n := len(power)
+	for i := 1; i < n; i++ {
+		if count[i] == 0 || count[i-1] == 0 {
+			continue
+		}
+		left := power[i-1]
+		for k := 1; k <= MaxSpikeRunS && i+k < n; k++ {
+			right := power[i+k]
+			if count[i+k] == 0 {
+				break
+			}
+			ref := max(left, right)
+			low := slices.Min(power[i : i+k])
+			if low > SpikeRatio*ref && low-ref > SpikeExcessW {
+				for j := i; j < i+k; j++ {
+					power[j], count[j] = 0, 0
+					q.SpikesRemoved++
+					q.SpikeOffsetsS = append(q.SpikeOffsetsS, j)
+					removed++
+				}
+				i += k - 1
+				break
+			}
+		}
+	}
+	return removed
+}
+
+// recordingInterval returns the median positive step between consecutive
+// samples, to the millisecond.
 func recordingInterval(samples []Sample) float64 {
 	ones := 0 // the usual 1-s step, counted without the map
 	counts := map[int64]int{}
+	total := 0
 	for i := 1; i < len(samples); i++ {
 		d := samples[i].UnixS - samples[i-1].UnixS
 		switch {
@@ -178,16 +241,24 @@ func recordingInterval(samples []Sample) float64 {
 			ones++
 		case d > 0:
 			counts[int64(math.Round(d*1000))]++
+		default:
+			continue
 		}
+		total++
 	}
 	if ones > 0 {
 		counts[1000] += ones
 	}
-	best, bestN := int64(0), 0
-	for d, c := range counts {
-		if c > bestN || (c == bestN && d < best) {
-			best, bestN = d, c
+	steps := make([]int64, 0, len(counts))
+	for d := range counts {
+		steps = append(steps, d)
+	}
+	slices.Sort(steps)
+	seen := 0
+	for _, d := range steps {
+		if seen += counts[d]; 2*seen >= total {
+			return float64(d) / 1000
 		}
 	}
-	return float64(best) / 1000
+	return 0
 }

@@ -33,8 +33,8 @@ func TestCleanRules(t *testing.T) {
 					t.Errorf("spikes %d at %v, invalid %d", q.SpikesRemoved, q.SpikeOffsetsS, q.InvalidValues)
 				}
 			}},
-		{"rule 4: a run of 5 missing seconds is interpolated",
-			[]pt{{0, 100}, {6, 220}},
+		{"rule 4: a run of 5 seconds without power (a sensor dropout) is interpolated",
+			[]pt{{0, 100}, {1, nan}, {2, nan}, {3, nan}, {4, nan}, {5, nan}, {6, 220}},
 			// 100 → 220 over 6 steps of 20 W
 			[]float64{100, 120, 140, 160, 180, 200, 220},
 			func(t *testing.T, q Quality) {
@@ -43,6 +43,38 @@ func TestCleanRules(t *testing.T) {
 				}
 				if math.Abs(q.PowerCoverage-2.0/7) > 1e-12 {
 					t.Errorf("coverage %v, want 2/7", q.PowerCoverage)
+				}
+			}},
+		{"rule 4: on a 1-Hz recording a 3-s hole is a dropout",
+			append(append(stuck(0, 10, 200), pt{13, 260}), stuck(14, 10, 200)...),
+			append(append(repeat(200, 10), 215, 230, 245, 260), repeat(200, 10)...),
+			func(t *testing.T, q Quality) {
+				if q.DropoutSeconds != 3 || q.FilledSeconds != 0 {
+					t.Errorf("dropouts %d s, filled %d s", q.DropoutSeconds, q.FilledSeconds)
+				}
+			}},
+		{"rule 4: steps of a sparse recording (every 1–4 s) are filled, not repairs",
+			[]pt{{0, 100}, {3, 130}, {4, 100}, {8, 140}, {10, 100}, {13, 100}},
+			[]float64{100, 110, 120, 130, 100, 110, 120, 130, 140, 120, 100, 100, 100, 100},
+			func(t *testing.T, q Quality) {
+				if q.DropoutSeconds != 0 || q.FilledSeconds != 8 || q.RecordingIntervalS != 3 {
+					t.Errorf("dropouts %d s, filled %d s, interval %v", q.DropoutSeconds, q.FilledSeconds, q.RecordingIntervalS)
+				}
+			}},
+		{"rule 3: a 1-s value far above both neighbours is a spike (below the ceiling)",
+			[]pt{{0, 250}, {1, 260}, {2, 2470}, {3, 240}, {4, 250}},
+			[]float64{250, 260, 250, 240, 250},
+			func(t *testing.T, q Quality) {
+				if q.SpikesRemoved != 1 || !reflect.DeepEqual(q.SpikeOffsetsS, []int{2}) {
+					t.Errorf("spikes %d at %v", q.SpikesRemoved, q.SpikeOffsetsS)
+				}
+			}},
+		{"rule 3: a 2-s spike too; a sprint of several seconds is not one",
+			[]pt{{0, 200}, {1, 1500}, {2, 1400}, {3, 200}, {4, 150}, {5, 900}, {6, 950}, {7, 880}, {8, 300}},
+			[]float64{200, 200, 200, 200, 150, 900, 950, 880, 300},
+			func(t *testing.T, q Quality) {
+				if q.SpikesRemoved != 2 || !reflect.DeepEqual(q.SpikeOffsetsS, []int{1, 2}) {
+					t.Errorf("spikes %d at %v", q.SpikesRemoved, q.SpikeOffsetsS)
 				}
 			}},
 		{"rule 4: a run of 6 missing seconds is 0 W and a gap",
@@ -85,7 +117,7 @@ func TestCleanRules(t *testing.T) {
 					t.Errorf("reversals %d", q.TimeReversals)
 				}
 			}},
-		{"recording interval is the usual step",
+		{"recording interval is the median step",
 			[]pt{{0, 100}, {2, 100}, {4, 100}, {6, 100}, {7, 100}},
 			repeat(100, 8),
 			func(t *testing.T, q Quality) {
@@ -145,4 +177,13 @@ func repeat(w float64, n int) []float64 {
 		out[i] = w
 	}
 	return out
+}
+
+// Suspect spans: stuck runs, and removed spikes with their margin, merged.
+func TestSuspectSpans(t *testing.T) {
+	q := Quality{StuckRuns: []StuckRun{{Span{100, 70}, 600}}, SpikeOffsetsS: []int{1, 40, 42, 168}}
+	want := []Span{{0, 4}, {38, 7}, {100, 71}}
+	if got := q.SuspectSpans(); !reflect.DeepEqual(got, want) {
+		t.Errorf("got %v, want %v", got, want)
+	}
 }

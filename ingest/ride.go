@@ -19,7 +19,10 @@
 // reason for every file it could not read.
 package ingest
 
-import "time"
+import (
+	"slices"
+	"time"
+)
 
 // Watts is a power in watts.
 type Watts = float64
@@ -48,22 +51,25 @@ type StuckRun struct {
 // Quality says how much of a ride was recorded cleanly and what cleaning did.
 // Offsets are seconds from the ride's start.
 type Quality struct {
-	Samples            int        `json:"samples"`
-	Seconds            int        `json:"seconds"`
-	PowerCoverage      float64    `json:"power_coverage"` // fraction of seconds with a recorded, valid power value
-	RecordingIntervalS float64    `json:"recording_interval_s"`
-	Gaps               []Span     `json:"gaps"` // missing runs set to 0 W
-	GapSeconds         int        `json:"gap_s"`
-	Dropouts           []Span     `json:"dropouts"` // short missing runs filled by interpolation
-	DropoutSeconds     int        `json:"dropout_s"`
-	SpikesRemoved      int        `json:"spikes_removed"`
-	SpikeOffsetsS      []int      `json:"spike_offsets_s"`
-	InvalidValues      int        `json:"invalid_values"` // NaN, infinite or negative power samples
-	TimeReversals      int        `json:"time_reversals"` // samples whose time went backwards
-	StuckRuns          []StuckRun `json:"stuck_runs"`
-	Truncated          bool       `json:"truncated"`
-	Salvaged           bool       `json:"salvaged"`
-	Notes              []string   `json:"notes,omitempty"`
+	Samples            int     `json:"samples"`
+	Seconds            int     `json:"seconds"`
+	PowerCoverage      float64 `json:"power_coverage"`       // fraction of seconds with a recorded, valid power value
+	RecordingIntervalS float64 `json:"recording_interval_s"` // median step between samples
+	Gaps               []Span  `json:"gaps"`                 // missing runs set to 0 W
+	GapSeconds         int     `json:"gap_s"`
+	Dropouts           []Span  `json:"dropouts"` // short missing runs filled by interpolation
+	DropoutSeconds     int     `json:"dropout_s"`
+	// FilledSeconds are seconds filled between samples of a sparsely
+	// recorded ride (steps of its normal recording interval): not repairs.
+	FilledSeconds int        `json:"filled_s"`
+	SpikesRemoved int        `json:"spikes_removed"`
+	SpikeOffsetsS []int      `json:"spike_offsets_s"`
+	InvalidValues int        `json:"invalid_values"` // NaN, infinite or negative power samples
+	TimeReversals int        `json:"time_reversals"` // samples whose time went backwards
+	StuckRuns     []StuckRun `json:"stuck_runs"`
+	Truncated     bool       `json:"truncated"`
+	Salvaged      bool       `json:"salvaged"`
+	Notes         []string   `json:"notes,omitempty"`
 }
 
 // Ride is one recorded ride (one session of a file) on a clean 1-Hz timeline.
@@ -105,6 +111,30 @@ func (r *Ride) Seconds() int {
 		return r.Quality.Seconds
 	}
 	return len(r.PowerW)
+}
+
+// SuspectSpans are the stretches whose power is not to be used inside a
+// maximal effort: stuck runs, and removed spikes with SuspectMarginS
+// seconds on each side. They are in time order and do not overlap.
+func (q *Quality) SuspectSpans() []Span {
+	var out []Span
+	for _, s := range q.StuckRuns {
+		out = append(out, s.Span)
+	}
+	for _, o := range q.SpikeOffsetsS {
+		a := max(o-SuspectMarginS, 0)
+		out = append(out, Span{a, o + SuspectMarginS + 1 - a})
+	}
+	slices.SortFunc(out, func(a, b Span) int { return a.StartS - b.StartS })
+	merged := out[:0]
+	for _, s := range out {
+		if k := len(merged) - 1; k >= 0 && s.StartS <= merged[k].End() {
+			merged[k].Seconds = max(merged[k].End(), s.End()) - merged[k].StartS
+			continue
+		}
+		merged = append(merged, s)
+	}
+	return merged
 }
 
 // FlaggedSeconds counts the seconds of [start, start+n) that cleaning had to
