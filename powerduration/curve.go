@@ -130,6 +130,33 @@ func OfRide(r *ingest.Ride) RideCurve {
 	return rc
 }
 
+// OfRideAvoiding is the ride's curve over the windows that share no second
+// with the spans (in time order, not overlapping): the best clean window
+// of each duration, for efforts that must not rest on suspect power. A
+// duration with no clean window has 0 W. power is the ride's power (it may
+// have been left in a store, see ingest.Ride.Power).
+func OfRideAvoiding(r *ingest.Ride, power []float64, spans []ingest.Span) RideCurve {
+	ds := Durations(len(power))
+	rc := RideCurve{Source: SourceOf(r), Watts: make([]float64, len(ds)), OffsetsS: make([]int32, len(ds))}
+	from := 0
+	for k := 0; k <= len(spans); k++ {
+		to := len(power)
+		if k < len(spans) {
+			to = max(min(spans[k].StartS, len(power)), from)
+		}
+		seg := power[from:to]
+		for i, b := range MeanMax(seg, ds[:len(Durations(len(seg)))]) {
+			if b.Watts > rc.Watts[i] {
+				rc.Watts[i], rc.OffsetsS[i] = b.Watts, int32(from+b.OffsetS)
+			}
+		}
+		if k < len(spans) {
+			from = max(from, min(spans[k].End(), len(power)))
+		}
+	}
+	return rc
+}
+
 // Best is the highest mean power for a duration and the offset of the
 // earliest window found with it.
 type Best struct {

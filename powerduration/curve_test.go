@@ -297,3 +297,40 @@ func TestConsecutiveWindows(t *testing.T) {
 		t.Errorf("no rides: %v", ws)
 	}
 }
+
+// The curve avoiding suspect spans equals a scan of every window that
+// shares no second with them; a duration longer than every clean stretch
+// has 0 W.
+func TestOfRideAvoidingMatchesScan(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 7))
+	for trial := range 20 {
+		n := 50 + rng.IntN(400)
+		power := make([]float64, n)
+		for i := range power {
+			power[i] = math.Round(300 * rng.Float64())
+		}
+		var spans []ingest.Span
+		for at := rng.IntN(60); at < n; at += 20 + rng.IntN(120) {
+			s := ingest.Span{StartS: at, Seconds: 1 + rng.IntN(15)}
+			spans = append(spans, s)
+			at = s.End()
+		}
+		r := ingest.Ride{File: "x.fit", PowerW: power}
+		rc := OfRideAvoiding(&r, power, spans)
+		for i, d := range rc.DurationsS() {
+			best, at := 0.0, 0
+			for s := 0; s+d <= n; s++ {
+				clean := true
+				for _, sp := range spans {
+					clean = clean && !sp.Overlaps(s, d)
+				}
+				if m := windowMean(power, s, d); clean && m > best+1e-9 {
+					best, at = m, s
+				}
+			}
+			if math.Abs(rc.Watts[i]-best) > 1e-9 || (best > 0 && int(rc.OffsetsS[i]) != at) {
+				t.Fatalf("trial %d, %d s: %.6f W at %d, scan %.6f W at %d (spans %v)", trial, d, rc.Watts[i], rc.OffsetsS[i], best, at, spans)
+			}
+		}
+	}
+}
