@@ -2,6 +2,7 @@ package estimate
 
 import (
 	"fmt"
+	"math"
 	"slices"
 
 	"github.com/sustain-cycling/sustain/ingest"
@@ -13,7 +14,40 @@ const (
 	EffortUsed   = "used"   // a maximal effort of its own
 	EffortNested = "nested" // part of a longer effort in the same ride: says little about its own duration
 	EffortPadded = "padded" // a shorter effort plus easier riding around it: not maximal for its duration
+	// EffortUnconfirmed: a best longer than the 2-parameter band whose
+	// power is not consistent with the CP of the band's efforts (or there
+	// is no such CP): an endurance ride's best hour, not a maximal hour.
+	EffortUnconfirmed = "unconfirmed"
 )
+
+// LongShare is the least power, as a share of the CP fitted to the 2–20 min
+// efforts, that a longer best must reach to count as maximal: 95 % of CP up
+// to 30 min, then 10 % less per doubling of duration (the tool's rule: the
+// omni-domain model's long-duration decline, A of 15–35 W per unit of
+// ln(t/1800), is 3–8 % of CP per doubling, so a maximal effort passes even
+// a few per cent short of the athlete's best, and endurance riding at
+// 55–80 % of CP does not).
+func LongShare(t float64) float64 {
+	if t <= 1800 {
+		return 0.95
+	}
+	return 0.95 - 0.10*math.Log2(t/1800)
+}
+
+// confirmLong marks the used efforts longer than maxS that fall short of
+// LongShare of cp (cp 0: no CP to judge them by) as unconfirmed, and
+// numbers the distinct efforts again (an unconfirmed hour no longer joins
+// the efforts inside it into one).
+func confirmLong(es []Effort, maxS int, cp float64) {
+	for i := range es {
+		e := &es[i]
+		if e.Status == EffortUsed && e.DurationS > maxS && (cp <= 0 || e.Watts < LongShare(float64(e.DurationS))*cp) {
+			e.Status = EffortUnconfirmed
+			e.Group = 0
+		}
+	}
+	groupEfforts(es)
+}
 
 // candidateDurations are the durations at which efforts are looked for.
 var candidateDurations = []int{5, 10, 15, 20, 30, 45, 60, 90, 120, 150, 180, 240, 300, 360, 420, 480, 600, 720,

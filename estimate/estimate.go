@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math"
 	"slices"
-	"sort"
 
 	"github.com/sustain-cycling/sustain/ingest"
 	"github.com/sustain-cycling/sustain/powerduration"
@@ -51,10 +50,12 @@ type Warning struct {
 
 // Rule is a rule-of-thumb threshold (common practice, no single source).
 type Rule struct {
-	Rule   string              `json:"rule"`
-	Watts  float64             `json:"watts"`
-	Effort powerduration.Point `json:"effort"`
-	Note   string              `json:"note"`
+	Rule       string              `json:"rule"`
+	Watts      float64             `json:"watts"`
+	Effort     powerduration.Point `json:"effort"`
+	Note       string              `json:"note"`
+	Confidence string              `json:"confidence"`
+	Reason     string              `json:"reason"`
 }
 
 // Threshold is the headline: the critical power of the best-supported
@@ -131,71 +132,98 @@ type Report struct {
 	Audit     []AuditRide
 }
 
-// Estimate fits the models to the best-of curve of the rides within w.
-// curves are the rides' curves in the same order as rides.
+// Estimate fits the models to the maximal efforts among the rides within
+// w. curves are the rides' curves in the same order as rides.
+//
+// The stages, in order: the efforts (best clean windows judged against
+// their own rides, efforts.go), the fits (fit.go; each refitted without
+// efforts far below its curve), the grades and warnings (grade.go), the
+// headline and its range (headline.go), the advice and the W′ balance
+// audit.
 func Estimate(rides []ingest.Ride, curves []powerduration.RideCurve, w powerduration.Window, opts Options) Report {
 	opts.defaults()
 	index := map[rideKey]*ingest.Ride{}
 	own := map[rideKey]powerduration.RideCurve{}
 	var inRides []*ingest.Ride
-	var inCurves []powerduration.RideCurve
+	var inCurves, effortCurves []powerduration.RideCurve
 	for i := range rides {
-		if w.Contains(rides[i].Date()) {
-			k := rideKey{rides[i].File, rides[i].Session}
-			index[k], own[k] = &rides[i], curves[i]
-			inRides = append(inRides, &rides[i])
-			inCurves = append(inCurves, curves[i])
+		r := &rides[i]
+		if !w.Contains(r.Date()) {
+			continue
 		}
+		// efforts never rest on suspect power: the ride's best clean windows
+		ec := curves[i]
+		if spans := r.Quality.SuspectSpans(); len(spans) > 0 {
+			if pw, err := r.Power(); err == nil && len(pw) > 0 {
+				ec = powerduration.OfRideAvoiding(r, pw, spans)
+			}
+		}
+		k := rideKey{r.File, r.Session}
+		index[k], own[k] = r, ec
+		inRides = append(inRides, r)
+		inCurves = append(inCurves, curves[i])
+		effortCurves = append(effortCurves, ec)
 	}
 	rep := Report{Window: w, Rides: len(inRides), Failed: map[string]string{}}
 	rep.Curve = powerduration.BestOf(inCurves)
 	if len(rep.Curve.Points) == 0 {
 		rep.Warnings = append(rep.Warnings, Warning{WarnThinData, "No rides in this window."})
+		rep.Threshold = &Threshold{Reason: "no rides in this window"}
 		return rep
 	}
-	rep.Efforts = SelectEfforts(rep.Curve, 1, math.MaxInt, index, own)
-	rep.Rules = rules(rep.Curve)
+	clean := powerduration.BestOf(effortCurves)
+	rep.Efforts = SelectEfforts(clean, 1, math.MaxInt, index, own)
 
 	cp2Efforts := used(rep.Efforts, opts.CP2MinS, opts.CP2MaxS)
 	var cp0, w0 float64
-	if fits, err := fitCP2(cp2Efforts); err == nil {
+	if fits, err := refit(cp2Efforts, 3, fitCP2); err == nil {
 		rep.Models = append(rep.Models, fits...)
 		cp0, w0 = fits[0].CPW, fits[0].WPrimeJ
+		confirmLong(rep.Efforts, opts.CP2MaxS, cp0)
 	} else {
 		rep.Failed[ModelCP2] = fitFailure(err, len(cp2Efforts))
-		cp0, w0 = startValues(rep.Curve)
+		confirmLong(rep.Efforts, opts.CP2MaxS, 0)
+		cp0, w0 = startValues(clean)
 	}
+	rep.Rules = rules(clean, rep.Efforts, rep.model(ModelCP2))
 	pmax0 := 0.0
-	if p, ok := rep.Curve.At(1); ok {
+	if p, ok := clean.At(1); ok {
 		pmax0 = p.Watts
 	}
 	mortonEfforts := used(rep.Efforts, 15, opts.CP2MaxS)
-	if f, err := fitMorton(mortonEfforts, cp0, w0, pmax0); err == nil {
-		rep.Models = append(rep.Models, f)
+	if fs, err := refit(mortonEfforts, 4, func(es []Effort) ([]Fit, error) { return one(fitMorton(es, cp0, w0, pmax0)) }); err == nil {
+		rep.Models = append(rep.Models, fs...)
 	} else {
 		rep.Failed[ModelMorton] = fitFailure(err, len(mortonEfforts))
 	}
-	var omniPts []Effort
-	for _, d := range omniDurations {
-		if p, ok := rep.Curve.At(d); ok && p.Watts > 0 {
-			omniPts = append(omniPts, Effort{Point: p, Status: EffortUsed})
-		}
+	// omni-domain: maximal efforts up to 30 min, and A only when a maximal
+	// effort beyond 30 min exists
+	omniEfforts := used(rep.Efforts, 1, int(OmniTCPMaxS))
+	long := used(rep.Efforts, int(OmniTCPMaxS)+1, math.MaxInt)
+	withA := len(long) > 0
+	omniEfforts = append(omniEfforts, long...)
+	np := 3
+	if withA {
+		np = 4
 	}
-	if f, err := fitOmni(omniPts, cp0, w0, pmax0); err == nil {
-		rep.Models = append(rep.Models, f)
+	if fs, err := refit(omniEfforts, np+1, func(es []Effort) ([]Fit, error) {
+		a := slices.ContainsFunc(es, func(e Effort) bool { return e.DurationS > int(OmniTCPMaxS) })
+		return one(fitOmni(es, cp0, w0, pmax0, a))
+	}); err == nil {
+		rep.Models = append(rep.Models, fs...)
 	} else {
-		rep.Failed[ModelOmni] = fitFailure(err, len(omniPts))
+		rep.Failed[ModelOmni] = fitFailure(err, len(omniEfforts))
 	}
 
 	newest := powerduration.Newest(inCurves)
-	ctx := gradeContext{efforts: rep.Efforts, curve: rep.Curve, newest: newest, opts: opts}
+	ctx := gradeContext{efforts: rep.Efforts, curve: clean, newest: newest, opts: opts}
 	for i := range rep.Models {
 		rep.Models[i].Grade = ctx.grade(&rep.Models[i])
 	}
 	rep.Warnings = ctx.warnings(rep)
-	rep.Threshold = headline(rep, opts.Model)
+	rep.Threshold = headline(rep, ctx, opts.Model)
 	rep.Advice = advise(rep, opts)
-	if rep.Threshold != nil {
+	if rep.Threshold.Estimated() {
 		if f := rep.model(rep.Threshold.Model); f != nil {
 			rep.Audit = audit(inRides, *f, opts.Differential)
 		}
@@ -230,55 +258,48 @@ func (r *Report) model(name string) *Fit {
 	return nil
 }
 
-// rules computes the rules of thumb with the provenance of their effort.
-func rules(c powerduration.Curve) []Rule {
+// rules computes the rules of thumb with the provenance of their effort,
+// each graded by the effort behind it: medium when that effort is a
+// maximal effort of its own (for the 60-min rule: consistent with the CP of
+// the 2–20 min efforts, see LongShare), low otherwise. A rule of thumb is
+// never graded high: it has no standard error.
+func rules(c powerduration.Curve, es []Effort, cp2 *Fit) []Rule {
 	var out []Rule
 	for _, r := range []struct {
 		name string
 		d    int
 		f    float64
 	}{{"95% of best 20 min", 1200, 0.95}, {"90% of best 8 min", 480, 0.90}, {"best 60 min", 3600, 1}} {
-		if p, ok := c.At(r.d); ok && p.Watts > 0 {
-			out = append(out, Rule{Rule: r.name, Watts: r.f * p.Watts, Effort: p, Note: "common practice"})
+		p, ok := c.At(r.d)
+		if !ok || p.Watts <= 0 {
+			continue
 		}
+		rule := Rule{Rule: r.name, Watts: r.f * p.Watts, Effort: p, Note: "common practice", Confidence: Low}
+		i := slices.IndexFunc(es, func(e Effort) bool { return e.DurationS == r.d })
+		switch {
+		case i < 0:
+			rule.Reason = "no effort of that duration"
+		case es[i].Status == EffortUsed && (r.d <= 1200 || cp2 != nil):
+			rule.Confidence = Medium
+			rule.Reason = "a maximal effort of its own; a rule of thumb has no standard error"
+			if r.d <= 1200 && cp2 != nil && p.Watts < (1-DropShare)*cp2.Power(float64(r.d)) {
+				rule.Confidence = Low
+				rule.Reason = fmt.Sprintf("the best %s is more than %.0f %% below what the 2–20 min efforts predict: not a maximal effort", minutes(r.d), 100*DropShare)
+			}
+		case es[i].Status == EffortUnconfirmed:
+			rule.Reason = fmt.Sprintf("the best %s is not consistent with the CP of the 2–20 min efforts: endurance riding, not a maximal effort", minutes(r.d))
+			if cp2 == nil {
+				rule.Reason = fmt.Sprintf("no 2–20 min efforts to show that the best %s was a maximal effort", minutes(r.d))
+			}
+		default:
+			rule.Reason = fmt.Sprintf("the best %s is %s, not a maximal effort of its own", minutes(r.d), es[i].Status)
+		}
+		if r.d <= 1200 && cp2 == nil && rule.Confidence == Medium {
+			rule.Confidence = Low
+			rule.Reason = fmt.Sprintf("no other maximal efforts between 2 and 20 min to show that the best %s was maximal", minutes(r.d))
+		}
+		out = append(out, rule)
 	}
 	return out
 }
 
-// headlineModels may give the headline; the linear 2-parameter forms are
-// shown for comparison only.
-var headlineModels = []string{ModelCP2, ModelMorton, ModelOmni}
-
-// headline picks the best-supported model: highest grade, then the smallest
-// relative standard error of CP; choice, when set, overrides.
-func headline(rep Report, choice string) *Threshold {
-	var cands []Fit
-	for _, f := range rep.Models {
-		if (choice == "" && slices.Contains(headlineModels, f.Model)) || f.Model == choice {
-			cands = append(cands, f)
-		}
-	}
-	if len(cands) == 0 {
-		for _, r := range rep.Rules {
-			if r.Rule == "95% of best 20 min" && choice == "" {
-				return &Threshold{Watts: r.Watts, LowW: 0.9 * r.Watts, HighW: 1.05 * r.Watts, Model: "20min-rule", Confidence: Low}
-			}
-		}
-		return nil
-	}
-	sort.SliceStable(cands, func(i, j int) bool {
-		a, b := cands[i], cands[j]
-		if rank(a.Confidence) != rank(b.Confidence) {
-			return rank(a.Confidence) > rank(b.Confidence)
-		}
-		return a.CPSEW/a.CPW < b.CPSEW/b.CPW
-	})
-	f := cands[0]
-	half := math.Max(1.96*f.CPSEW, 0.01*f.CPW)
-	if f.Confidence == Low {
-		// field CP differs from lab CP by about 5 % (SEE 5.2 %, Karsten et
-		// al. 2015, Eur J Appl Physiol): a low grade gets at least that
-		half = math.Max(half, 0.05*f.CPW)
-	}
-	return &Threshold{Watts: f.CPW, LowW: f.CPW - half, HighW: f.CPW + half, Model: f.Model, Confidence: f.Confidence}
-}

@@ -19,7 +19,16 @@ type Fit struct {
 	WPrimeSEJ float64
 	PmaxSEW   float64
 	RMSEW     float64 // root-mean-square residual, watts
-	Efforts   []Effort
+	// DF is the fit's residual degrees of freedom (efforts − parameters).
+	DF      int
+	Efforts []Effort
+	// Dropped are the efforts left out of the refit for lying far below
+	// the first fit's curve (submaximal for their duration).
+	Dropped []Effort
+	// AIdentified: the omni-domain model's long-duration term A was fitted
+	// (a maximal effort beyond 30 min exists); otherwise A is not
+	// identified and is 0.
+	AIdentified bool
 	// s2 is the residual variance of the hyperbolic 2-parameter fit,
 	// which the advice scales its hypothetical covariance by.
 	s2 float64
@@ -108,11 +117,12 @@ func fitCP2(es []Effort) ([]Fit, error) {
 	if err != nil {
 		return nil, err
 	}
+	df := len(t) - 2
 	hyper := Fit{Model: ModelCP2, CPW: sol.Params[0], WPrimeJ: sol.Params[1], CPSEW: sol.StdErr[0], WPrimeSEJ: sol.StdErr[1],
-		Efforts: es, s2: sol.RSS / float64(len(t)-2)}
+		Efforts: es, s2: sol.RSS / float64(df), DF: df}
 	hyper.RMSEW = math.Sqrt(sol.RSS / float64(len(t)))
-	invFit := Fit{Model: ModelCP2Inverse, CPW: cpI, WPrimeJ: wI, CPSEW: seCPI, WPrimeSEJ: seWI, Efforts: es, RMSEW: math.Sqrt(rssI / float64(len(t)))}
-	workFit := Fit{Model: ModelCP2Work, CPW: cpW, WPrimeJ: wW, CPSEW: seCPW, WPrimeSEJ: seWW, Efforts: es}
+	invFit := Fit{Model: ModelCP2Inverse, CPW: cpI, WPrimeJ: wI, CPSEW: seCPI, WPrimeSEJ: seWI, Efforts: es, RMSEW: math.Sqrt(rssI / float64(len(t))), DF: df}
+	workFit := Fit{Model: ModelCP2Work, CPW: cpW, WPrimeJ: wW, CPSEW: seCPW, WPrimeSEJ: seWW, Efforts: es, DF: df}
 	workFit.RMSEW = rmse(workFit, t, p)
 	return []Fit{hyper, workFit, invFit}, nil
 }
@@ -151,7 +161,7 @@ func fitMorton(es []Effort, cp0, w0, pmax0 float64) (Fit, error) {
 		return Fit{}, err
 	}
 	f := Fit{Model: ModelMorton, CPW: sol.Params[0], WPrimeJ: sol.Params[1], PmaxW: sol.Params[2],
-		CPSEW: sol.StdErr[0], WPrimeSEJ: sol.StdErr[1], PmaxSEW: sol.StdErr[2], Efforts: es}
+		CPSEW: sol.StdErr[0], WPrimeSEJ: sol.StdErr[1], PmaxSEW: sol.StdErr[2], Efforts: es, DF: len(t) - 3}
 	f.RMSEW = rmse(f, t, p)
 	if !(f.PmaxW > f.CPW) || math.IsNaN(f.CPW) {
 		return f, fmt.Errorf("fit has Pmax (%.0f W) at or below CP (%.0f W)", f.PmaxW, f.CPW)
@@ -159,15 +169,20 @@ func fitMorton(es []Effort, cp0, w0, pmax0 float64) (Fit, error) {
 	return f, nil
 }
 
-// omniDurations samples the whole curve for the omni-domain fit.
-var omniDurations = []int{1, 2, 3, 5, 8, 10, 15, 20, 30, 45, 60, 90, 120, 180, 240, 300, 420, 600, 900, 1200, 1500, 1800,
-	2400, 3000, 3600, 5400, 7200, 10800, 14400, 18000, 21600}
+// Omni-domain bounds (common practice, wide on purpose): W′ and Pmax are
+// kept inside these while fitting, so that a few noisy points cannot send
+// them to thousands of kilojoules or watts.
+const (
+	omniMinWPrimeJ, omniMaxWPrimeJ = 3000.0, 60000.0
+	omniMaxPmaxW                   = 2500.0
+)
 
-// fitOmni fits the omni-domain model on the whole curve; A is fitted only
-// when the curve reaches well beyond 1800 s.
-func fitOmni(es []Effort, cp0, w0, pmax0 float64) (Fit, error) {
+// fitOmni fits the omni-domain model to maximal efforts by relative least
+// squares (each residual in proportion to the effort's power, so that
+// sprints and 20-min efforts weigh alike). A is fitted only when withA
+// (a maximal effort beyond 30 min exists); W′ and Pmax are bounded.
+func fitOmni(es []Effort, cp0, w0, pmax0 float64, withA bool) (Fit, error) {
 	t, p := xy(es)
-	withA := len(t) > 0 && t[len(t)-1] >= 2*OmniTCPMaxS
 	np := 3
 	if withA {
 		np = 4
@@ -175,26 +190,87 @@ func fitOmni(es []Effort, cp0, w0, pmax0 float64) (Fit, error) {
 	if len(t) <= np {
 		return Fit{}, ErrTooFewPoints
 	}
-	start := []float64{cp0, w0, math.Max(pmax0, cp0*1.5)}
-	if withA {
-		start = append(start, 0.05*cp0)
+	// parameters: CP, W′ and Pmax mapped into their bounds
+	bound := func(x, lo, hi float64) float64 { return lo + (hi-lo)/(1+math.Exp(-x)) }
+	unbound := func(v, lo, hi float64) float64 {
+		f := math.Min(0.999, math.Max(0.001, (v-lo)/(hi-lo)))
+		return math.Log(f / (1 - f))
 	}
-	f := func(x float64, b []float64) float64 {
-		a := 0.0
+	params := func(b []float64) (cp, w, pm, a float64) {
+		cp = b[0]
+		w = bound(b[1], omniMinWPrimeJ, omniMaxWPrimeJ)
+		pm = bound(b[2], 1.2*math.Max(cp, 1), omniMaxPmaxW)
 		if withA {
 			a = b[3]
 		}
-		return OmniPower(x, b[0], b[1], b[2], a)
+		return
 	}
-	sol, err := LevenbergMarquardt(Problem{X: t, Y: p, F: f}, start)
+	start := []float64{cp0, unbound(w0, omniMinWPrimeJ, omniMaxWPrimeJ), unbound(math.Max(pmax0, cp0*1.5), 1.2*cp0, omniMaxPmaxW)}
+	if withA {
+		start = append(start, 0.05*cp0)
+	}
+	idx := make([]float64, len(t))
+	ones := make([]float64, len(t))
+	for i := range idx {
+		idx[i], ones[i] = float64(i), 1
+	}
+	sol, err := LevenbergMarquardt(Problem{X: idx, Y: ones, F: func(x float64, b []float64) float64 {
+		i := int(x)
+		cp, w, pm, a := params(b)
+		return OmniPower(t[i], cp, w, pm, a) / p[i]
+	}}, start)
 	if err != nil {
 		return Fit{}, err
 	}
-	fit := Fit{Model: ModelOmni, CPW: sol.Params[0], WPrimeJ: sol.Params[1], PmaxW: sol.Params[2],
-		CPSEW: sol.StdErr[0], WPrimeSEJ: sol.StdErr[1], PmaxSEW: sol.StdErr[2], Efforts: es}
-	if withA {
-		fit.A = sol.Params[3]
-	}
+	cp, w, pm, a := params(sol.Params)
+	// standard errors through the bounds' derivatives (delta method)
+	dw := (w - omniMinWPrimeJ) * (omniMaxWPrimeJ - w) / (omniMaxWPrimeJ - omniMinWPrimeJ)
+	lo := 1.2 * math.Max(cp, 1)
+	dp := (pm - lo) * (omniMaxPmaxW - pm) / (omniMaxPmaxW - lo)
+	fit := Fit{Model: ModelOmni, CPW: cp, WPrimeJ: w, PmaxW: pm, A: a, AIdentified: withA,
+		CPSEW: sol.StdErr[0], WPrimeSEJ: sol.StdErr[1] * dw, PmaxSEW: sol.StdErr[2] * dp, Efforts: es, DF: len(t) - np}
 	fit.RMSEW = rmse(fit, t, p)
 	return fit, nil
+}
+
+// DropShare: an effort more than this far below a fit's curve is taken as
+// submaximal for its duration and left out of the refit (a field best at a
+// duration nobody rode hard; maximal field efforts scatter by a few
+// per cent).
+const DropShare = 0.03
+
+// refit fits the efforts, leaves out those more than DropShare below the
+// first fit's curve (its first model), and fits again on the rest when at
+// least minN efforts remain.
+func refit(es []Effort, minN int, fit func([]Effort) ([]Fit, error)) ([]Fit, error) {
+	fs, err := fit(es)
+	if err != nil {
+		return nil, err
+	}
+	var keep, drop []Effort
+	for _, e := range es {
+		if e.Watts < (1-DropShare)*fs[0].Power(float64(e.DurationS)) {
+			drop = append(drop, e)
+		} else {
+			keep = append(keep, e)
+		}
+	}
+	if len(drop) == 0 || len(keep) < minN {
+		return fs, nil
+	}
+	gs, err := fit(keep)
+	if err != nil {
+		return fs, nil
+	}
+	for i := range gs {
+		gs[i].Dropped = drop
+	}
+	return gs, nil
+}
+
+func one(f Fit, err error) ([]Fit, error) {
+	if err != nil {
+		return nil, err
+	}
+	return []Fit{f}, nil
 }

@@ -15,11 +15,6 @@ const (
 	minCPW, maxCPW         = 50.0, 600.0
 	minWPrimeJ, maxWPrimeJ = 2000.0, 60000.0
 	maxPmaxW               = 2600.0
-	// flatRatio: on a curve with maximal efforts the best 2-min power is
-	// well above the best 20-min power (about 1.3–1.6× for trained riders,
-	// from the 2-parameter model with typical CP and W′); below 1.2× the
-	// rides hold no maximal efforts.
-	flatRatio = 1.2
 	// noisyShare: share of the efforts' seconds that cleaning repaired or
 	// flagged before the estimate is called noisy.
 	noisyShare = 0.02
@@ -34,15 +29,11 @@ type gradeContext struct {
 
 func (c gradeContext) cp2Band() []Effort { return used(c.efforts, c.opts.CP2MinS, c.opts.CP2MaxS) }
 
-// flat reports whether the curve shows no maximal efforts between 2 and 20 min.
-func (c gradeContext) flat() (bool, float64) {
-	a, ok1 := c.curve.At(120)
-	b, ok2 := c.curve.At(1200)
-	if !ok1 || !ok2 || b.Watts <= 0 {
-		return !ok1 || !ok2, 0
-	}
-	r := a.Watts / b.Watts
-	return r < flatRatio, r
+// thin reports whether the window holds fewer than two distinct maximal
+// efforts in the 2–20 min band, the efforts CP rests on.
+func (c gradeContext) thin() (bool, int) {
+	n := distinct(c.cp2Band())
+	return n < 2, n
 }
 
 func flaggedShare(es []Effort) (share float64, seconds int) {
@@ -92,9 +83,6 @@ func implausible(f *Fit) string {
 func (c gradeContext) grade(f *Fit) Grade {
 	g := Grade{Confidence: High}
 	es := f.Efforts
-	if f.Model == ModelOmni {
-		es = used(c.efforts, 1, math.MaxInt)
-	}
 	n := distinct(es)
 	switch {
 	case n < 2:
@@ -117,12 +105,11 @@ func (c gradeContext) grade(f *Fit) Grade {
 	if nested > 0 && distinct(c.cp2Band()) < 3 {
 		g.cap(Low, fmt.Sprintf("%d of the best 2–20 min powers are parts of longer efforts", nested))
 	}
-	if flat, r := c.flat(); flat {
-		if r > 0 {
-			g.cap(Low, fmt.Sprintf("the curve is flat (best 2 min only %.2f× best 20 min): no sign of maximal efforts", r))
-		} else {
-			g.cap(Low, "the window has no 2-min and 20-min bests to compare")
-		}
+	if thin, k := c.thin(); thin {
+		g.cap(Low, fmt.Sprintf("only %d distinct maximal effort(s) between %s and %s, where CP is decided", k, minutes(c.opts.CP2MinS), minutes(c.opts.CP2MaxS)))
+	}
+	if why := shortMisfit(f); why != "" {
+		g.cap(Low, "the fit "+why)
 	}
 	cpRel, wRel := f.CPSEW/f.CPW, f.WPrimeSEJ/f.WPrimeJ
 	switch {
@@ -147,13 +134,20 @@ func (c gradeContext) grade(f *Fit) Grade {
 	if share, s := flaggedShare(used(es, 1, math.MaxInt)); share > noisyShare {
 		g.cap(Medium, fmt.Sprintf("%d s (%.0f %%) of the efforts were repaired or look suspect (dropouts, gaps, spikes, stuck power)", s, 100*share))
 	}
-	if ne := c.newestEffort(es); ne != "" && c.newest != "" {
+	// CP rests on the 2–20 min efforts, whatever the model
+	if ne := c.newestEffort(c.cp2Band()); ne != "" && c.newest != "" {
 		if days := daysBetween(ne, c.newest); days > c.opts.StaleDays {
 			g.cap(Medium, fmt.Sprintf("the newest maximal effort used is from %s, %d days before the latest ride", ne, days))
 		}
 	}
 	if len(g.Reasons) == 0 {
 		g.Reasons = []string{fmt.Sprintf("%d distinct maximal efforts, CP standard error %.1f %%", n, 100*cpRel)}
+	}
+	if len(f.Dropped) > 0 {
+		g.Reasons = append(g.Reasons, fmt.Sprintf("%d best(s) more than %.0f %% below the first fit's curve left out as submaximal", len(f.Dropped), 100*DropShare))
+	}
+	if f.Model == ModelOmni && !f.AIdentified {
+		g.Reasons = append(g.Reasons, "A (the decline beyond 30 min) not identified: no maximal effort longer than 30 min")
 	}
 	return g
 }
@@ -163,14 +157,14 @@ func (c gradeContext) warnings(rep Report) []Warning {
 	var ws []Warning
 	band := c.cp2Band()
 	lo, hi := minutes(c.opts.CP2MinS), minutes(c.opts.CP2MaxS)
-	flat, ratio := c.flat()
+	thin, k := c.thin()
 	switch {
 	case rep.Rides < 3:
 		ws = append(ws, Warning{WarnThinData, fmt.Sprintf("Only %d ride(s) in this window: too little to estimate threshold with confidence.", rep.Rides)})
-	case flat && ratio > 0:
-		ws = append(ws, Warning{WarnThinData, fmt.Sprintf("These rides hold no maximal efforts: the best 2-min power is only %.2f× the best 20-min power, as in steady endurance riding. Any threshold from them is a floor, not an estimate.", ratio)})
-	case len(band) == 0:
-		ws = append(ws, Warning{WarnThinData, fmt.Sprintf("No maximal effort between %s and %s in this window.", lo, hi)})
+	case k == 0:
+		ws = append(ws, Warning{WarnThinData, fmt.Sprintf("No maximal effort between %s and %s in this window: the rides look like endurance riding. Any threshold from them is a floor, not an estimate.", lo, hi)})
+	case thin:
+		ws = append(ws, Warning{WarnThinData, fmt.Sprintf("Only one distinct maximal effort between %s and %s in this window: at least two, better three, of clearly different durations are needed.", lo, hi)})
 	}
 	// the longer effort that holds most of the nested bests
 	nested, most := 0, 0

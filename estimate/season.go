@@ -81,7 +81,7 @@ func Season(rides []ingest.Ride, curves []powerduration.RideCurve, opts SeasonOp
 		opts.StepDays = 7
 	}
 	if opts.Components == "" {
-		opts.Components = ModelMorton
+		opts.Components = ModelCP2
 	}
 	var rep SeasonReport
 	for _, w := range SeasonWindows(rides, opts.WindowDays, opts.StepDays) {

@@ -1,0 +1,136 @@
+package estimate
+
+import (
+	"fmt"
+	"math"
+	"slices"
+
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+// headlineModels may give the headline, in the order of preference among
+// equally graded fits; the linear 2-parameter forms are shown for
+// comparison only. The 2-parameter model on 2–20 min efforts comes first:
+// of the three it is the least sensitive to the shape of the athlete's
+// true curve below 2 min (measured by `make accuracy` on 2-parameter,
+// Morton and omni-domain truths), which is where the models differ.
+var headlineModels = []string{ModelCP2, ModelOmni, ModelMorton}
+
+// Shortfall is the share of CP added to the top of the range: maximal
+// field efforts fall a little short of the athlete's true best (paced
+// imperfectly, ridden on roads), never above it, so a fitted CP errs low
+// more than high (the tool's rule; its invented field efforts are 97–100 %
+// of the truth).
+const Shortfall = 0.02
+
+// Confidence level of the range.
+const rangeLevel = 0.95
+
+// tQuantile is the two-sided Student-t quantile for df degrees of freedom
+// (df 3: 3.182, from any statistics table).
+func tQuantile(df int) float64 {
+	if df < 1 {
+		return math.Inf(1)
+	}
+	return distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(df)}.Quantile(1 - (1-rangeLevel)/2)
+}
+
+// RangeRule says in one sentence how the range is made (README, output).
+const RangeRule = "95 % range: CP ± t × its standard error (Student t for the fit's residual degrees of freedom, at least ±1 % of CP, ±5 % when graded low), raised at the top by 2 % of CP because field efforts fall short of a true maximum, never above it."
+
+// headline picks the best-supported model among those that may give it:
+// plausible parameters, no misfit at short durations, at least two
+// distinct maximal efforts in the 2–20 min band; then the highest grade;
+// then the order of headlineModels. choice, when set, overrides the
+// choice of model (not the checks of the data). When nothing can be
+// estimated the threshold says why, with a floor when the window holds a
+// 60-min best.
+func headline(rep Report, ctx gradeContext, choice string) *Threshold {
+	var cands []Fit
+	why := ""
+	for _, f := range rep.Models {
+		if !slices.Contains(headlineModels, f.Model) && f.Model != choice {
+			continue
+		}
+		if choice != "" && f.Model != choice {
+			continue
+		}
+		if r := implausible(&f); r != "" {
+			why = fmt.Sprintf("the %s fit is implausible (%s)", f.Model, r)
+			continue
+		}
+		if r := shortMisfit(&f); r != "" && choice == "" {
+			why = fmt.Sprintf("the %s fit %s", f.Model, r)
+			continue
+		}
+		cands = append(cands, f)
+	}
+	if n := distinct(ctx.cp2Band()); n < 2 {
+		why = fmt.Sprintf("only %d distinct maximal effort(s) between %s and %s: at least 2, better 3, are needed", n, minutes(ctx.opts.CP2MinS), minutes(ctx.opts.CP2MaxS))
+		cands = nil
+	}
+	if len(cands) == 0 {
+		if why == "" {
+			why = "no model could be fitted to the efforts"
+			if choice != "" {
+				why = fmt.Sprintf("the %s model could not be fitted", choice)
+			}
+		}
+		t := &Threshold{Reason: why}
+		if p, ok := ctx.curve.At(3600); ok && p.Watts > 0 {
+			t.FloorW, t.FloorRule = p.Watts, "best 60-min power"
+		}
+		return t
+	}
+	slices.SortStableFunc(cands, func(a, b Fit) int {
+		if d := rank(b.Confidence) - rank(a.Confidence); d != 0 {
+			return d
+		}
+		return slices.Index(headlineModels, a.Model) - slices.Index(headlineModels, b.Model)
+	})
+	f := cands[0]
+	half := math.Max(tQuantile(f.DF)*f.CPSEW, 0.01*f.CPW)
+	if f.Confidence == Low {
+		// field CP differs from lab CP by about 5 % (SEE 5.2 %, Karsten et
+		// al. 2015, Eur J Appl Physiol): a low grade gets at least that
+		half = math.Max(half, 0.05*f.CPW)
+	}
+	return &Threshold{Watts: f.CPW, LowW: f.CPW - half, HighW: f.CPW + half + Shortfall*f.CPW, Model: f.Model, Confidence: f.Confidence}
+}
+
+// shortMisfit reports a 3-parameter fit whose residuals at the shortest
+// efforts (up to 60 s) show the model cannot follow the curve there: all
+// of one sign and on average more than misfitShare of power. A model that
+// misses its sprints pulls CP and W′ to make up for it (Morton's model on
+// an omni-domain-shaped athlete sits 5–6 % low on CP).
+func shortMisfit(f *Fit) string {
+	if f.PmaxW == 0 {
+		return ""
+	}
+	var rel []float64
+	for _, e := range f.Efforts {
+		if e.DurationS <= 60 {
+			rel = append(rel, (e.Watts-f.Power(float64(e.DurationS)))/e.Watts)
+		}
+	}
+	if len(rel) < 2 {
+		return ""
+	}
+	pos, neg, sum := 0, 0, 0.0
+	for _, r := range rel {
+		if r > 0 {
+			pos++
+		} else {
+			neg++
+		}
+		sum += math.Abs(r)
+	}
+	if mean := sum / float64(len(rel)); (pos == 0 || neg == 0) && mean > misfitShare {
+		return fmt.Sprintf("misses its efforts of up to 60 s by %.0f %% on average, all on one side: the model does not fit the short end of this curve", 100*mean)
+	}
+	return ""
+}
+
+// misfitShare: the mean relative residual at short durations beyond which
+// a fit is taken to misfit them (maximal efforts scatter by 2–3 %).
+const misfitShare = 0.03
