@@ -153,9 +153,9 @@ func Estimate(rides []ingest.Ride, curves []powerduration.RideCurve, w powerdura
 		}
 		// efforts never rest on suspect power: the ride's best clean windows
 		ec := curves[i]
-		if spans := r.Quality.SuspectSpans(); len(spans) > 0 {
+		if stuck, margins := r.Quality.StuckSpans(), r.Quality.SpikeMargins(); len(stuck)+len(margins) > 0 {
 			if pw, err := r.Power(); err == nil && len(pw) > 0 {
-				ec = powerduration.OfRideAvoiding(r, pw, spans)
+				ec = powerduration.OfRideAvoiding(r, pw, stuck, margins)
 			}
 		}
 		k := rideKey{r.File, r.Session}

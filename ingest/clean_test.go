@@ -179,11 +179,14 @@ func repeat(w float64, n int) []float64 {
 	return out
 }
 
-// Suspect spans: stuck runs, and removed spikes with their margin, merged.
+// Suspect power: stuck runs as they are; removed spikes with their margin,
+// merged where they touch.
 func TestSuspectSpans(t *testing.T) {
 	q := Quality{StuckRuns: []StuckRun{{Span{100, 70}, 600}}, SpikeOffsetsS: []int{1, 40, 42, 168}}
-	want := []Span{{0, 4}, {38, 7}, {100, 71}}
-	if got := q.SuspectSpans(); !reflect.DeepEqual(got, want) {
-		t.Errorf("got %v, want %v", got, want)
+	if got, want := q.SpikeMargins(), []Span{{0, 4}, {38, 7}, {166, 5}}; !reflect.DeepEqual(got, want) {
+		t.Errorf("spike margins %v, want %v", got, want)
+	}
+	if got, want := q.StuckSpans(), []Span{{100, 70}}; !reflect.DeepEqual(got, want) {
+		t.Errorf("stuck spans %v, want %v", got, want)
 	}
 }

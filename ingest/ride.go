@@ -19,10 +19,7 @@
 // reason for every file it could not read.
 package ingest
 
-import (
-	"slices"
-	"time"
-)
+import "time"
 
 // Watts is a power in watts.
 type Watts = float64
@@ -113,21 +110,26 @@ func (r *Ride) Seconds() int {
 	return len(r.PowerW)
 }
 
-// SuspectSpans are the stretches whose power is not to be used inside a
-// maximal effort: stuck runs, and removed spikes with SuspectMarginS
-// seconds on each side. They are in time order and do not overlap.
-func (q *Quality) SuspectSpans() []Span {
-	var out []Span
-	for _, s := range q.StuckRuns {
-		out = append(out, s.Span)
+// Suspect power is not to be used inside a maximal effort: a window over a
+// stuck run is no effort at all, and the seconds next to a removed spike
+// (the meter misbehaved there) count for nothing in an effort.
+
+// StuckSpans are the stuck runs' spans, in time order.
+func (q *Quality) StuckSpans() []Span {
+	out := make([]Span, len(q.StuckRuns))
+	for i, s := range q.StuckRuns {
+		out[i] = s.Span
 	}
-	for _, o := range q.SpikeOffsetsS {
-		a := max(o-SuspectMarginS, 0)
-		out = append(out, Span{a, o + SuspectMarginS + 1 - a})
-	}
-	slices.SortFunc(out, func(a, b Span) int { return a.StartS - b.StartS })
-	merged := out[:0]
-	for _, s := range out {
+	return out
+}
+
+// SpikeMargins are the removed spikes with SuspectMarginS seconds on each
+// side, in time order and merged where they touch.
+func (q *Quality) SpikeMargins() []Span {
+	var merged []Span
+	for _, o := range q.SpikeOffsetsS { // sorted
+		s := Span{max(o-SuspectMarginS, 0), 0}
+		s.Seconds = o + SuspectMarginS + 1 - s.StartS
 		if k := len(merged) - 1; k >= 0 && s.StartS <= merged[k].End() {
 			merged[k].Seconds = max(merged[k].End(), s.End()) - merged[k].StartS
 			continue

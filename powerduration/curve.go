@@ -131,11 +131,19 @@ func OfRide(r *ingest.Ride) RideCurve {
 }
 
 // OfRideAvoiding is the ride's curve over the windows that share no second
-// with the spans (in time order, not overlapping): the best clean window
-// of each duration, for efforts that must not rest on suspect power. A
+// with the spans to avoid, with the seconds of the spans to zero counted as
+// 0 W (each list in time order, not overlapping): the best clean window of
+// each duration, for efforts that must not rest on suspect power. A
 // duration with no clean window has 0 W. power is the ride's power (it may
-// have been left in a store, see ingest.Ride.Power).
-func OfRideAvoiding(r *ingest.Ride, power []float64, spans []ingest.Span) RideCurve {
+// have been left in a store, see ingest.Ride.Power); it is not changed.
+func OfRideAvoiding(r *ingest.Ride, power []float64, avoid, zero []ingest.Span) RideCurve {
+	if len(zero) > 0 {
+		power = slices.Clone(power)
+		for _, s := range zero {
+			clear(power[min(s.StartS, len(power)):min(s.End(), len(power))])
+		}
+	}
+	spans := avoid
 	ds := Durations(len(power))
 	rc := RideCurve{Source: SourceOf(r), Watts: make([]float64, len(ds)), OffsetsS: make([]int32, len(ds))}
 	from := 0

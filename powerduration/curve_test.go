@@ -5,6 +5,7 @@ import (
 	"math/rand/v2"
 	"os/exec"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -298,9 +299,9 @@ func TestConsecutiveWindows(t *testing.T) {
 	}
 }
 
-// The curve avoiding suspect spans equals a scan of every window that
-// shares no second with them; a duration longer than every clean stretch
-// has 0 W.
+// The curve avoiding spans equals a scan of every window that shares no
+// second with them; a duration longer than every clean stretch has 0 W.
+// Zeroed spans count as 0 W and leave the ride's power as it was.
 func TestOfRideAvoidingMatchesScan(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 7))
 	for trial := range 20 {
@@ -316,7 +317,14 @@ func TestOfRideAvoidingMatchesScan(t *testing.T) {
 			at = s.End()
 		}
 		r := ingest.Ride{File: "x.fit", PowerW: power}
-		rc := OfRideAvoiding(&r, power, spans)
+		zero := []ingest.Span{{StartS: n / 2, Seconds: 3}}
+		orig := slices.Clone(power)
+		rc := OfRideAvoiding(&r, power, spans, zero)
+		if !slices.Equal(power, orig) {
+			t.Fatal("the ride's power was changed")
+		}
+		power = slices.Clone(power)
+		clear(power[n/2 : n/2+3])
 		for i, d := range rc.DurationsS() {
 			best, at := 0.0, 0
 			for s := 0; s+d <= n; s++ {

@@ -196,7 +196,7 @@ func sparse(tr *Track, rng *rand.Rand) {
 }
 
 // noisy adds single-sample spikes of 1200–2470 W (below the usual
-// ceiling), sensor dropouts of 1–4 s, and, on half the rides with maximal
+// ceiling), sensor dropouts of 1–4 s, and, on a quarter of the rides with maximal
 // efforts, a stuck run: the meter repeats one value for 70–150 s from a
 // second inside an effort.
 func noisy(tr *Track, rng *rand.Rand) {
@@ -210,7 +210,7 @@ func noisy(tr *Track, rng *rand.Rand) {
 			tr.PowerW[j] = math.NaN()
 		}
 	}
-	if len(tr.Efforts) > 0 && rng.IntN(2) == 0 {
+	if len(tr.Efforts) > 0 && rng.IntN(4) == 0 {
 		e := tr.Efforts[rng.IntN(len(tr.Efforts))]
 		at := e.StartS + rng.IntN(max(e.Seconds/2, 1))
 		v := math.Round(e.Watts)
