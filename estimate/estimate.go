@@ -302,4 +302,3 @@ func rules(c powerduration.Curve, es []Effort, cp2 *Fit) []Rule {
 	}
 	return out
 }
-

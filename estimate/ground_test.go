@@ -70,8 +70,13 @@ func TestWellTestedSeason(t *testing.T) {
 		t.Fatal("no threshold")
 	}
 	within(t, "threshold", th.Watts, truth.CPW, 0.02)
-	f := rep.model(th.Model)
-	within(t, "W′ of the headline model", f.WPrimeJ, truth.WPrimeJ, 0.15)
+	// Morton's model recovers its own truth's W′; the 2-parameter model's
+	// W′ is biased low on a Morton-shaped athlete (the 1/t curve is steeper
+	// than Morton's between 2 and 20 min), a property of the model
+	within(t, "W′ of Morton's fit", rep.model(ModelMorton).WPrimeJ, truth.WPrimeJ, 0.15)
+	if w := rep.model(ModelCP2).WPrimeJ; w > truth.WPrimeJ {
+		t.Errorf("2-parameter W′ %.0f J above the Morton truth's %.0f J", w, truth.WPrimeJ)
+	}
 	if th.Confidence != High || th.LowW > truth.CPW || th.HighW < truth.CPW {
 		t.Errorf("threshold %+v", th)
 	}
@@ -110,7 +115,8 @@ func TestCP2FormsOnExactData(t *testing.T) {
 	}
 }
 
-// Endurance riding only: graded low with thin-data.
+// Endurance riding only: thin-data, every fit low, and the headline says
+// "not estimated" with a floor (the best 60-min power) below the truth.
 func TestEnduranceOnlyIsThin(t *testing.T) {
 	var tracks []synth.Track
 	for d := range 20 {
@@ -126,8 +132,8 @@ func TestEnduranceOnlyIsThin(t *testing.T) {
 			t.Errorf("%s graded %s on endurance riding", f.Model, f.Confidence)
 		}
 	}
-	if rep.Threshold != nil && rep.Threshold.Confidence != Low {
-		t.Errorf("threshold %+v", rep.Threshold)
+	if th := rep.Threshold; th.Estimated() || th.Reason == "" || th.FloorW <= 0 || th.FloorW >= truth.CPW {
+		t.Errorf("threshold %+v", th)
 	}
 }
 
@@ -173,8 +179,8 @@ func TestSingleTwentyMinuteEffort(t *testing.T) {
 			t.Errorf("the warning does not name the 20-min effort: %s", w.Message)
 		}
 	}
-	if rep.Threshold == nil || rep.Threshold.Confidence != Low {
-		t.Errorf("threshold %+v", rep.Threshold)
+	if th := rep.Threshold; th.Estimated() || !strings.Contains(th.Reason, "only 1 distinct maximal effort") {
+		t.Errorf("threshold %+v", th)
 	}
 	if _, ok := rep.Failed[ModelCP2]; !ok {
 		t.Error("a 2-parameter fit from one effort")

@@ -36,7 +36,7 @@ func tQuantile(df int) float64 {
 }
 
 // RangeRule says in one sentence how the range is made (README, output).
-const RangeRule = "95 % range: CP ± t × its standard error (Student t for the fit's residual degrees of freedom, at least ±1 % of CP, ±5 % when graded low), raised at the top by 2 % of CP because field efforts fall short of a true maximum, never above it."
+const RangeRule = "95 % range: CP ± t × its standard error (Student t for the fit's residual degrees of freedom, at least ±1 % of CP, ±5 % when graded low), raised at the top by 2 % of CP because field efforts fall short of a true maximum, never above it, and widened to hold the range of every other model graded as well."
 
 // headline picks the best-supported model among those that may give it:
 // plausible parameters, no misfit at short durations, at least two
@@ -95,7 +95,17 @@ func headline(rep Report, ctx gradeContext, choice string) *Threshold {
 		// al. 2015, Eur J Appl Physiol): a low grade gets at least that
 		half = math.Max(half, 0.05*f.CPW)
 	}
-	return &Threshold{Watts: f.CPW, LowW: f.CPW - half, HighW: f.CPW + half + Shortfall*f.CPW, Model: f.Model, Confidence: f.Confidence}
+	th := &Threshold{Watts: f.CPW, LowW: f.CPW - half, HighW: f.CPW + half + Shortfall*f.CPW, Model: f.Model, Confidence: f.Confidence}
+	// the models disagree about the curve's shape and the efforts cannot
+	// say which is right: the range holds the range of every other
+	// candidate graded as well as the headline's
+	for _, g := range cands[1:] {
+		if g.Confidence == f.Confidence {
+			h := math.Max(tQuantile(g.DF)*g.CPSEW, 0.01*g.CPW)
+			th.LowW, th.HighW = math.Min(th.LowW, g.CPW-h), math.Max(th.HighW, g.CPW+h+Shortfall*g.CPW)
+		}
+	}
+	return th
 }
 
 // shortMisfit reports a 3-parameter fit whose residuals at the shortest

@@ -30,11 +30,12 @@ func changed(cs []Change, component string, sign float64) bool {
 }
 
 // An invented block (weeks 7–12) raises CP by 25 W and trims W′ by 4 kJ:
-// the season reports CP up and W′ down, and Pmax unchanged.
+// the season, following the components of Morton's model (the athlete's
+// own truth here), reports CP up and W′ down, and Pmax unchanged.
 func TestSeasonBlock(t *testing.T) {
 	base := synth.Athlete{CPW: 260, WPrimeJ: 21000, PmaxW: 1000}
 	rides, curves := seasonOf(t, synth.Block(base, 25, 4000), 18)
-	rep := Season(rides, curves, SeasonOptions{})
+	rep := Season(rides, curves, SeasonOptions{Components: ModelMorton})
 	if len(rep.Windows) < 10 {
 		t.Fatalf("%d windows", len(rep.Windows))
 	}

@@ -111,8 +111,8 @@ func (r *Ride) Seconds() int {
 }
 
 // Suspect power is not to be used inside a maximal effort: a window over a
-// stuck run is no effort at all, and the seconds next to a removed spike
-// (the meter misbehaved there) count for nothing in an effort.
+// stuck run is no effort at all, and the recorded values next to a removed
+// spike (the meter misbehaved there) are bridged over like the spike.
 
 // StuckSpans are the stuck runs' spans, in time order.
 func (q *Quality) StuckSpans() []Span {

@@ -131,16 +131,34 @@ func OfRide(r *ingest.Ride) RideCurve {
 }
 
 // OfRideAvoiding is the ride's curve over the windows that share no second
-// with the spans to avoid, with the seconds of the spans to zero counted as
-// 0 W (each list in time order, not overlapping): the best clean window of
-// each duration, for efforts that must not rest on suspect power. A
-// duration with no clean window has 0 W. power is the ride's power (it may
-// have been left in a store, see ingest.Ride.Power); it is not changed.
-func OfRideAvoiding(r *ingest.Ride, power []float64, avoid, zero []ingest.Span) RideCurve {
-	if len(zero) > 0 {
+// with the spans to avoid, with the recorded values of the spans to bridge
+// replaced by a straight line between the seconds on either side (each
+// list in time order, not overlapping): the best clean window of each
+// duration, for efforts that must not rest on suspect power. A duration
+// with no clean window has 0 W. power is the ride's power (it may have
+// been left in a store, see ingest.Ride.Power); it is not changed.
+func OfRideAvoiding(r *ingest.Ride, power []float64, avoid, bridge []ingest.Span) RideCurve {
+	if len(bridge) > 0 {
 		power = slices.Clone(power)
-		for _, s := range zero {
-			clear(power[min(s.StartS, len(power)):min(s.End(), len(power))])
+		n := len(power)
+		for _, s := range bridge {
+			a, b := max(s.StartS, 0), min(s.End(), n)
+			if a >= b {
+				continue
+			}
+			left, right := 0.0, 0.0
+			switch {
+			case a > 0 && b < n:
+				left, right = power[a-1], power[b]
+			case a > 0:
+				left, right = power[a-1], power[a-1]
+			case b < n:
+				left, right = power[b], power[b]
+			}
+			for k := a; k < b; k++ {
+				f := float64(k-a+1) / float64(b-a+1)
+				power[k] = left + (right-left)*f
+			}
 		}
 	}
 	spans := avoid

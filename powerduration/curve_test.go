@@ -301,7 +301,8 @@ func TestConsecutiveWindows(t *testing.T) {
 
 // The curve avoiding spans equals a scan of every window that shares no
 // second with them; a duration longer than every clean stretch has 0 W.
-// Zeroed spans count as 0 W and leave the ride's power as it was.
+// Bridged spans are a straight line between their neighbours, and the
+// ride's power is left as it was.
 func TestOfRideAvoidingMatchesScan(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 7))
 	for trial := range 20 {
@@ -317,14 +318,17 @@ func TestOfRideAvoidingMatchesScan(t *testing.T) {
 			at = s.End()
 		}
 		r := ingest.Ride{File: "x.fit", PowerW: power}
-		zero := []ingest.Span{{StartS: n / 2, Seconds: 3}}
+		bridge := []ingest.Span{{StartS: n / 2, Seconds: 3}}
 		orig := slices.Clone(power)
-		rc := OfRideAvoiding(&r, power, spans, zero)
+		rc := OfRideAvoiding(&r, power, spans, bridge)
 		if !slices.Equal(power, orig) {
 			t.Fatal("the ride's power was changed")
 		}
 		power = slices.Clone(power)
-		clear(power[n/2 : n/2+3])
+		a, b := power[n/2-1], power[n/2+3]
+		for k := range 3 {
+			power[n/2+k] = a + (b-a)*float64(k+1)/4
+		}
 		for i, d := range rc.DurationsS() {
 			best, at := 0.0, 0
 			for s := 0; s+d <= n; s++ {
