@@ -154,11 +154,43 @@ type adviceJSON struct {
 	Caution string `json:"caution"`
 }
 
+// thresholdJSON is the headline: watts, low_w and high_w are null when the
+// data cannot support a number, and reason says why.
+type thresholdJSON struct {
+	Watts      *float64 `json:"watts"`
+	LowW       *float64 `json:"low_w"`
+	HighW      *float64 `json:"high_w"`
+	Model      string   `json:"model"`
+	Confidence string   `json:"confidence"`
+	Reason     string   `json:"reason,omitempty"`
+	FloorW     *float64 `json:"floor_w,omitempty"`
+	FloorRule  string   `json:"floor_rule,omitempty"`
+	RangeRule  string   `json:"range_rule"`
+}
+
+func thresholdOf(th *estimate.Threshold) thresholdJSON {
+	out := thresholdJSON{RangeRule: estimate.RangeRule}
+	if th == nil {
+		out.Reason = "nothing to estimate from"
+		return out
+	}
+	if !th.Estimated() {
+		out.Reason = th.Reason
+		if th.FloorW > 0 {
+			out.FloorW, out.FloorRule = ptr(th.FloorW), th.FloorRule
+		}
+		return out
+	}
+	out.Watts, out.LowW, out.HighW = ptr(th.Watts), ptr(th.LowW), ptr(th.HighW)
+	out.Model, out.Confidence = th.Model, th.Confidence
+	return out
+}
+
 type estimateOut struct {
 	Window    powerduration.Window `json:"window"`
 	Rides     int                  `json:"rides"`
 	Skipped   []ingest.Skipped     `json:"skipped"`
-	Threshold *estimate.Threshold  `json:"threshold"`
+	Threshold thresholdJSON        `json:"threshold"`
 	Models    []modelJSON          `json:"models"`
 	Failed    []failedJSON         `json:"failed"`
 	Rules     []estimate.Rule      `json:"rules"`
@@ -171,7 +203,7 @@ type estimateOut struct {
 func ptr(v float64) *float64 { return &v }
 
 func estimateJSON(rep estimate.Report, skipped []ingest.Skipped) estimateOut {
-	out := estimateOut{Window: rep.Window, Rides: rep.Rides, Skipped: nonNil(skipped), Threshold: rep.Threshold,
+	out := estimateOut{Window: rep.Window, Rides: rep.Rides, Skipped: nonNil(skipped), Threshold: thresholdOf(rep.Threshold),
 		Models: []modelJSON{}, Failed: []failedJSON{}, Rules: rep.Rules, Warnings: rep.Warnings,
 		Advice: adviceJSON{rep.Advice, estimate.Caution}, Audit: rep.Audit, Efforts: rep.Efforts}
 	for _, f := range rep.Models {
@@ -210,17 +242,21 @@ func estimateJSON(rep estimate.Report, skipped []ingest.Skipped) estimateOut {
 
 func renderEstimate(w io.Writer, out estimateOut, massKG float64) {
 	fmt.Fprintf(w, "Window %s to %s: %d rides\n\n", orOpen(out.Window.From), orOpen(out.Window.To), out.Rides)
-	if th := out.Threshold; th != nil {
+	if th := out.Threshold; th.Watts != nil {
 		fmt.Fprintf(w, "Threshold (critical power): %.0f W, likely between %.0f and %.0f W; confidence %s (%s)\n",
-			th.Watts, th.LowW, th.HighW, th.Confidence, th.Model)
+			*th.Watts, *th.LowW, *th.HighW, th.Confidence, th.Model)
 		if massKG > 0 {
-			fmt.Fprintf(w, "  %.2f W/kg at %.1f kg\n", th.Watts/massKG, massKG)
+			fmt.Fprintf(w, "  %.2f W/kg at %.1f kg\n", *th.Watts/massKG, massKG)
 		}
 		if th.Confidence == estimate.Low {
 			fmt.Fprintln(w, "  The data cannot support a confident figure; the warnings below say why.")
 		}
+		fmt.Fprintf(w, "  (%s)\n", th.RangeRule)
 	} else {
-		fmt.Fprintln(w, "Threshold: cannot be estimated from these rides.")
+		fmt.Fprintf(w, "Threshold: not estimated: %s.\n", th.Reason)
+		if th.FloorW != nil {
+			fmt.Fprintf(w, "  It is at least %.0f W (%s).\n", *th.FloorW, th.FloorRule)
+		}
 	}
 	if len(out.Models) > 0 {
 		fmt.Fprintln(w, "\nModels")
@@ -244,9 +280,14 @@ func renderEstimate(w io.Writer, out estimateOut, massKG float64) {
 		fmt.Fprintln(w, "\nRules of thumb (common practice)")
 		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 		for _, r := range out.Rules {
-			fmt.Fprintf(tw, "  %s\t%.0f W\tfrom %.0f W on %s at %s in %s\n", r.Rule, r.Watts, r.Effort.Watts, r.Effort.Date, clock(r.Effort.OffsetS), r.Effort.File)
+			fmt.Fprintf(tw, "  %s\t%.0f W\t%s\tfrom %.0f W on %s at %s in %s\n", r.Rule, r.Watts, r.Confidence, r.Effort.Watts, r.Effort.Date, clock(r.Effort.OffsetS), r.Effort.File)
 		}
 		tw.Flush()
+		for _, r := range out.Rules {
+			if r.Confidence == estimate.Low {
+				fmt.Fprintf(w, "  %s is graded low: %s.\n", r.Rule, r.Reason)
+			}
+		}
 	}
 	var usedEfforts []estimate.Effort
 	for _, e := range out.Efforts {
@@ -265,17 +306,19 @@ func renderEstimate(w io.Writer, out estimateOut, massKG float64) {
 			fmt.Fprintln(tw, effortRow(e.Point)+flag)
 		}
 		tw.Flush()
-		nested, padded := 0, 0
+		nested, padded, unconfirmed := 0, 0, 0
 		for _, e := range out.Efforts {
 			switch e.Status {
 			case estimate.EffortNested:
 				nested++
 			case estimate.EffortPadded:
 				padded++
+			case estimate.EffortUnconfirmed:
+				unconfirmed++
 			}
 		}
-		if nested+padded > 0 {
-			fmt.Fprintf(w, "  (%d other bests were parts of longer efforts and %d were shorter efforts padded with easy riding; they were left out)\n", nested, padded)
+		if nested+padded+unconfirmed > 0 {
+			fmt.Fprintf(w, "  (left out: %d bests that were parts of longer efforts, %d shorter efforts padded with easy riding, %d long bests below what the 2–20 min efforts' CP allows)\n", nested, padded, unconfirmed)
 		}
 	}
 	if len(out.Warnings) > 0 {
@@ -290,7 +333,7 @@ func renderEstimate(w io.Writer, out estimateOut, massKG float64) {
 		fmt.Fprintf(w, "  - %s\n", g)
 	}
 	fmt.Fprintf(w, "  Caution: %s\n", estimate.Caution)
-	if out.Threshold != nil && out.Threshold.Model != "20min-rule" {
+	if out.Threshold.Watts != nil {
 		fmt.Fprintf(w, "\nW′ balance audit (%s fit)\n", out.Threshold.Model)
 		if len(out.Audit) == 0 {
 			fmt.Fprintln(w, "  No ride drove W′ balance below −10 % of W′: the fit is consistent with every ride in the window.")

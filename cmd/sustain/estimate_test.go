@@ -118,7 +118,8 @@ func TestEstimateSaysWhenItCannotBeSure(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d", code)
 	}
-	for _, want := range []string{"confidence low", "[thin-data]", "cannot support a confident figure", "Ride maximal efforts of about 3, 7 and 12 minutes", "medical clearance"} {
+	for _, want := range []string{"Threshold: not estimated: only 0 distinct maximal effort(s) between 2 min and 20 min", "It is at least ", "(best 60-min power)",
+		"[thin-data]", "Ride maximal efforts of about 3, 7 and 12 minutes", "medical clearance"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("report lacks %q:\n%s", want, out)
 		}

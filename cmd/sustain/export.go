@@ -99,7 +99,7 @@ func exportAction(c *cli.Context) error {
 		for _, w := range estimate.SeasonWindows(res.Rides, windowDays, stepDays) {
 			rep := estimate.Estimate(res.Rides, curves, w, eo)
 			for _, f := range rep.Models {
-				headline := rep.Threshold != nil && rep.Threshold.Model == f.Model
+				headline := rep.Threshold.Estimated() && rep.Threshold.Model == f.Model
 				ests.Rows = append(ests.Rows, []any{athlete, w.From, w.To, rep.Rides, f.Model, f.CPW, f.CPSEW, f.WPrimeJ,
 					f.WPrimeSEJ, orNaN(f.PmaxW), orNaN(f.PmaxSEW), f.RMSEW, f.Confidence, headline, strings.Join(f.Reasons, "; ")})
 			}

@@ -18,7 +18,7 @@ func seasonCommand() *cli.Command {
 	flags = append(flags,
 		&cli.StringFlag{Name: "window", Value: "42d", Usage: "length of each rolling window"},
 		&cli.StringFlag{Name: "step", Value: "7d", Usage: "distance between the ends of consecutive windows"},
-		&cli.StringFlag{Name: "components", Value: estimate.ModelMorton, Usage: "model whose CP, W′ and Pmax are followed: morton3, omni or cp2 (no Pmax)"},
+		&cli.StringFlag{Name: "components", Value: estimate.ModelCP2, Usage: "model whose CP and W′ (and Pmax, for morton3 and omni) are followed: cp2, omni or morton3"},
 		&cli.StringFlag{Name: "athlete", Usage: "in a folder of athletes (one subfolder each), show this athlete's season"},
 		&cli.StringFlag{Name: "plot", Usage: "write CP, W′ and Pmax over the season to FILE.png or FILE.svg"},
 	)
@@ -121,10 +121,13 @@ type seasonWindowJSON struct {
 	Model      string   `json:"model"`
 	CPW        *float64 `json:"cp_w"`
 	CPSEW      *float64 `json:"cp_se_w"`
+	CPHalfW    *float64 `json:"cp_half_w"`
 	WPrimeJ    *float64 `json:"w_prime_j"`
 	WPrimeSEJ  *float64 `json:"w_prime_se_j"`
+	WPrimeHalf *float64 `json:"w_prime_half_j"`
 	PmaxW      *float64 `json:"pmax_w"`
 	PmaxSEW    *float64 `json:"pmax_se_w"`
+	PmaxHalfW  *float64 `json:"pmax_half_w"`
 	ThresholdW *float64 `json:"threshold_w"`
 	LowW       *float64 `json:"threshold_low_w"`
 	HighW      *float64 `json:"threshold_high_w"`
@@ -132,13 +135,29 @@ type seasonWindowJSON struct {
 	Confidence *string  `json:"confidence"`
 }
 
+// changeJSON: CP and Pmax changes are in watts (the _w keys), W′ changes
+// in joules (the _j keys); the other pair is absent.
 type changeJSON struct {
 	From      powerduration.Window `json:"from"`
 	To        powerduration.Window `json:"to"`
 	Component string               `json:"component"`
-	Delta     float64              `json:"delta"`
-	SE        float64              `json:"se"`
+	DeltaW    *float64             `json:"delta_w,omitempty"`
+	SEW       *float64             `json:"se_w,omitempty"`
+	HalfW     *float64             `json:"half_w,omitempty"`
+	DeltaJ    *float64             `json:"delta_j,omitempty"`
+	SEJ       *float64             `json:"se_j,omitempty"`
+	HalfJ     *float64             `json:"half_j,omitempty"`
 	Message   string               `json:"message"`
+}
+
+func changeOf(c estimate.Change) changeJSON {
+	j := changeJSON{From: c.From, To: c.To, Component: c.Component, Message: c.Message}
+	if c.Component == "w_prime" {
+		j.DeltaJ, j.SEJ, j.HalfJ = ptr(c.Delta), ptr(c.SE), ptr(c.HalfWidth)
+	} else {
+		j.DeltaW, j.SEW, j.HalfW = ptr(c.Delta), ptr(c.SE), ptr(c.HalfWidth)
+	}
+	return j
 }
 
 type seasonOut struct {
@@ -154,11 +173,12 @@ func seasonJSON(rep estimate.SeasonReport, skipped []ingest.Skipped, rides int) 
 	for _, w := range rep.Windows {
 		j := seasonWindowJSON{From: w.From, To: w.To, Rides: w.Rides, Estimated: w.Estimated, Reason: w.Reason, Model: w.Model}
 		if w.Estimated {
-			j.CPW, j.CPSEW, j.WPrimeJ, j.WPrimeSEJ = ptr(w.CPW), ptr(w.CPSEW), ptr(w.WPrimeJ), ptr(w.WPrimeSEJ)
+			j.CPW, j.CPSEW, j.CPHalfW = ptr(w.CPW), ptr(w.CPSEW), ptr(w.HalfW(w.CPSEW))
+			j.WPrimeJ, j.WPrimeSEJ, j.WPrimeHalf = ptr(w.WPrimeJ), ptr(w.WPrimeSEJ), ptr(w.HalfW(w.WPrimeSEJ))
 			if w.PmaxW > 0 {
-				j.PmaxW, j.PmaxSEW = ptr(w.PmaxW), ptr(w.PmaxSEW)
+				j.PmaxW, j.PmaxSEW, j.PmaxHalfW = ptr(w.PmaxW), ptr(w.PmaxSEW), ptr(w.HalfW(w.PmaxSEW))
 			}
-			if t := w.Threshold; t != nil {
+			if t := w.Threshold; t.Estimated() {
 				j.ThresholdW, j.LowW, j.HighW, j.Headline = ptr(t.Watts), ptr(t.LowW), ptr(t.HighW), t.Model
 			}
 			conf := w.Confidence
@@ -167,7 +187,7 @@ func seasonJSON(rep estimate.SeasonReport, skipped []ingest.Skipped, rides int) 
 		out.Windows = append(out.Windows, j)
 	}
 	for _, c := range rep.Changes {
-		out.Changes = append(out.Changes, changeJSON{c.From, c.To, c.Component, c.Delta, c.SE, c.Message})
+		out.Changes = append(out.Changes, changeOf(c))
 	}
 	return out
 }
@@ -186,8 +206,10 @@ func num(v *float64, scale float64, se *float64) string {
 }
 
 func renderSeason(w io.Writer, out seasonOut, so estimate.SeasonOptions, first, last string) {
-	fmt.Fprintf(w, "Season %s to %s: %d rides; windows of %d days every %d days; CP, W′ and Pmax from the %s model (± one standard error)\n\n",
+	fmt.Fprintf(w, "Season %s to %s: %d rides; windows of %d days every %d days; CP, W′ and Pmax from the %s model\n",
 		orOpen(first), orOpen(last), out.Rides, so.WindowDays, so.StepDays, so.Components)
+	fmt.Fprintln(w, "(every ± below is the 95 % half-width: Student t for the fit's degrees of freedom × its standard error)")
+	fmt.Fprintln(w)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "window\trides\tCP (W)\tW′ (kJ)\tPmax (W)\tthreshold (W)\tconfidence\t")
 	for _, x := range out.Windows {
@@ -197,10 +219,10 @@ func renderSeason(w io.Writer, out seasonOut, so estimate.SeasonOptions, first, 
 		}
 		th := "-"
 		if x.ThresholdW != nil {
-			th = fmt.Sprintf("%.0f (%.0f–%.0f)", *x.ThresholdW, *x.LowW, *x.HighW)
+			th = fmt.Sprintf("%.0f (%.0f–%.0f, %s)", *x.ThresholdW, *x.LowW, *x.HighW, x.Headline)
 		}
-		fmt.Fprintf(tw, "%s – %s\t%d\t%s\t%s\t%s\t%s\t%s\t\n", x.From, x.To, x.Rides, num(x.CPW, 1, x.CPSEW), num(x.WPrimeJ, 1000, x.WPrimeSEJ),
-			num(x.PmaxW, 1, x.PmaxSEW), th, *x.Confidence)
+		fmt.Fprintf(tw, "%s – %s\t%d\t%s\t%s\t%s\t%s\t%s\t\n", x.From, x.To, x.Rides, num(x.CPW, 1, x.CPHalfW), num(x.WPrimeJ, 1000, x.WPrimeHalf),
+			num(x.PmaxW, 1, x.PmaxHalfW), th, *x.Confidence)
 	}
 	tw.Flush()
 	fmt.Fprintf(w, "\nWhat changed (each window against the one %d days earlier, beyond both windows' uncertainty)\n", so.WindowDays)
@@ -228,7 +250,7 @@ type athleteRow struct {
 	Rides       int                  `json:"rides"`
 	Skipped     []ingest.Skipped     `json:"skipped"`
 	LastRide    string               `json:"last_ride"`
-	Threshold   *estimate.Threshold  `json:"threshold"`
+	Threshold   *thresholdJSON       `json:"threshold"`
 	Change6wW   *float64             `json:"cp_change_6w_w"`
 	Significant bool                 `json:"cp_change_significant"`
 	Window      powerduration.Window `json:"window"`
@@ -266,7 +288,8 @@ func squadAction(c *cli.Context, so estimate.SeasonOptions, names []string) erro
 			anyRide = true
 			rep := estimate.Season(res.Rides, curves, so)
 			last := rep.Windows[len(rep.Windows)-1]
-			row.Threshold, row.Window = last.Threshold, last.Window
+			th := thresholdOf(last.Threshold)
+			row.Threshold, row.Window = &th, last.Window
 			if d, sig, ok := estimate.RecentChange(rep, 42); ok {
 				row.Change6wW, row.Significant = ptr(d), sig
 			}
@@ -284,9 +307,11 @@ func squadAction(c *cli.Context, so estimate.SeasonOptions, names []string) erro
 		fmt.Fprintln(tw, "athlete\tthreshold (W)\tconfidence\tCP change, 6 weeks\trides\tlast ride\t")
 		for _, r := range rows {
 			th, conf, ch := "-", "-", "-"
-			if r.Threshold != nil {
-				th = fmt.Sprintf("%.0f (%.0f–%.0f)", r.Threshold.Watts, r.Threshold.LowW, r.Threshold.HighW)
-				conf = r.Threshold.Confidence
+			if t := r.Threshold; t != nil && t.Watts != nil {
+				th = fmt.Sprintf("%.0f (%.0f–%.0f, %s)", *t.Watts, *t.LowW, *t.HighW, t.Model)
+				conf = t.Confidence
+			} else if t != nil {
+				th = "not estimated"
 			}
 			if r.Change6wW != nil {
 				ch = fmt.Sprintf("%+.0f W", *r.Change6wW)
@@ -308,9 +333,9 @@ func squadAction(c *cli.Context, so estimate.SeasonOptions, names []string) erro
 func shortChange(c changeJSON) string {
 	switch c.Component {
 	case "cp":
-		return fmt.Sprintf("CP %+.1f W (± %.1f)", c.Delta, 1.96*c.SE)
+		return fmt.Sprintf("CP %+.1f W (± %.1f)", *c.DeltaW, *c.HalfW)
 	case "w_prime":
-		return fmt.Sprintf("W′ %+.1f kJ (± %.1f)", c.Delta/1000, 1.96*c.SE/1000)
+		return fmt.Sprintf("W′ %+.1f kJ (± %.1f)", *c.DeltaJ/1000, *c.HalfJ/1000)
 	}
-	return fmt.Sprintf("Pmax %+.0f W (± %.0f)", c.Delta, 1.96*c.SE)
+	return fmt.Sprintf("Pmax %+.0f W (± %.0f)", *c.DeltaW, *c.HalfW)
 }

@@ -32,8 +32,9 @@ type seasonJS struct {
 		Confidence *string  `json:"confidence"`
 	} `json:"windows"`
 	Changes []struct {
-		Component string  `json:"component"`
-		Delta     float64 `json:"delta"`
+		Component string   `json:"component"`
+		DeltaW    *float64 `json:"delta_w"`
+		DeltaJ    *float64 `json:"delta_j"`
 	} `json:"changes"`
 }
 
@@ -42,7 +43,8 @@ func TestSeasonJSONBlock(t *testing.T) {
 	base := synth.Athlete{CPW: 250, WPrimeJ: 22000, PmaxW: 1000}
 	writeAthlete(t, dir, "me", synth.Block(base, 25, 4000), 16, 1)
 	plot := filepath.Join(t.TempDir(), "season.png")
-	code, out, _ := runCmd(t, "season", filepath.Join(dir, "me"), "--json", "--plot", plot)
+	// Morton's components: the invented athlete's own truth, with Pmax
+	code, out, _ := runCmd(t, "season", filepath.Join(dir, "me"), "--json", "--plot", plot, "--components", "morton3")
 	if code != exitOK {
 		t.Fatalf("exit %d", code)
 	}
@@ -59,9 +61,13 @@ func TestSeasonJSONBlock(t *testing.T) {
 	}
 	up, down := false, false
 	for _, c := range js.Changes {
-		up = up || (c.Component == "cp" && c.Delta > 0)
-		down = down || (c.Component == "w_prime" && c.Delta < 0)
-		if c.Component == "cp" && c.Delta < 0 {
+		if (c.DeltaW == nil) == (c.DeltaJ == nil) || (c.Component == "w_prime") != (c.DeltaJ != nil) {
+			t.Errorf("change %+v: watts in delta_w, joules in delta_j", c)
+			continue
+		}
+		up = up || (c.Component == "cp" && *c.DeltaW > 0)
+		down = down || (c.Component == "w_prime" && *c.DeltaJ < 0)
+		if c.Component == "cp" && *c.DeltaW < 0 {
 			t.Errorf("CP fall reported: %+v", c)
 		}
 	}

@@ -39,7 +39,10 @@ func plotSeason(path string, rep estimate.SeasonReport, title string) error {
 	all := []series{
 		{"CP (W)", inkMain, func(w estimate.SeasonWindow) (float64, float64) { return w.CPW, w.CPSEW }},
 		{"W′ (kJ)", inkCompare, func(w estimate.SeasonWindow) (float64, float64) { return w.WPrimeJ / 1000, w.WPrimeSEJ / 1000 }},
-		{"Pmax (W)", inkModel[1], func(w estimate.SeasonWindow) (float64, float64) { return w.PmaxW, w.PmaxSEW }},
+	}
+	// Pmax only where the components model has it (cp2 has none)
+	if len(rep.Windows) > 0 && rep.Windows[0].Model != estimate.ModelCP2 {
+		all = append(all, series{"Pmax (W)", inkModel[1], func(w estimate.SeasonWindow) (float64, float64) { return w.PmaxW, w.PmaxSEW }})
 	}
 	var plots []*plot.Plot
 	for k, s := range all {
@@ -72,7 +75,8 @@ func plotSeason(path string, rep estimate.SeasonReport, title string) error {
 				byGrade[w.Confidence] = m
 			}
 			m.xy = append(m.xy, plotter.XY{X: x, Y: v})
-			m.err = append(m.err, struct{ Low, High float64 }{1.96 * se, 1.96 * se})
+			h := w.HalfW(se) // the season's one "±": the 95 % half-width
+			m.err = append(m.err, struct{ Low, High float64 }{h, h})
 		}
 		if len(line) == 0 {
 			p.Title.Text += fmt.Sprintf("   (%s: no window with enough data)", strings.TrimSuffix(s.name, " (W)"))
