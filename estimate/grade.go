@@ -15,6 +15,12 @@ const (
 	minCPW, maxCPW         = 50.0, 600.0
 	minWPrimeJ, maxWPrimeJ = 2000.0, 60000.0
 	maxPmaxW               = 2600.0
+	// allOutRatio: any rider's best 5 s, over weeks of riding that hold
+	// maximal efforts, is several times CP (Pmax of cyclists is about 3–5×
+	// CP, from memory of published values); a best 5 s below 1.8× CP says
+	// nothing was ridden all out, so the 2–20 min bests may be tempo
+	// riding rather than maximal efforts.
+	allOutRatio = 1.8
 	// noisyShare: share of the efforts' seconds that cleaning repaired or
 	// flagged before the estimate is called noisy.
 	noisyShare = 0.02
@@ -110,6 +116,9 @@ func (c gradeContext) grade(f *Fit) Grade {
 	}
 	if why := shortMisfit(f); why != "" {
 		g.cap(Low, "the fit "+why)
+	}
+	if p, ok := c.curve.At(5); ok && f.CPW > 0 && p.Watts < allOutRatio*f.CPW {
+		g.cap(Low, fmt.Sprintf("the best 5 s (%.0f W) is only %.1f× CP: nothing in these rides looks ridden all out, so the 2–20 min bests may be submaximal", p.Watts, p.Watts/f.CPW))
 	}
 	cpRel, wRel := f.CPSEW/f.CPW, f.WPrimeSEJ/f.WPrimeJ
 	switch {
