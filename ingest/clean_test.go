@@ -69,6 +69,14 @@ func TestCleanRules(t *testing.T) {
 					t.Errorf("spikes %d at %v", q.SpikesRemoved, q.SpikeOffsetsS)
 				}
 			}},
+		{"rule 3: a 2470-W sample inside a 900-W sprint is a spike (below the 2500-W ceiling)",
+			[]pt{{0, 250}, {1, 880}, {2, 900}, {3, 2470}, {4, 890}, {5, 870}, {6, 260}},
+			[]float64{250, 880, 900, 895, 890, 870, 260},
+			func(t *testing.T, q Quality) {
+				if q.SpikesRemoved != 1 || !reflect.DeepEqual(q.SpikeOffsetsS, []int{3}) {
+					t.Errorf("spikes %d at %v", q.SpikesRemoved, q.SpikeOffsetsS)
+				}
+			}},
 		{"rule 3: a 2-s spike too; a sprint of several seconds is not one",
 			[]pt{{0, 200}, {1, 1500}, {2, 1400}, {3, 200}, {4, 150}, {5, 900}, {6, 950}, {7, 880}, {8, 300}},
 			[]float64{200, 200, 200, 200, 150, 900, 950, 880, 300},
