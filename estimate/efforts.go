@@ -26,7 +26,7 @@ const (
 // omni-domain model's long-duration decline, A of 15–35 W per unit of
 // ln(t/1800), is 3–8 % of CP per doubling, so a maximal effort passes even
 // a few per cent short of the athlete's best, and endurance riding at
-// 55–80 % of CP does not).
+// 55–80 % of CP mostly does not).
 func LongShare(t float64) float64 {
 	if t <= 1800 {
 		return 0.95
@@ -34,19 +34,65 @@ func LongShare(t float64) float64 {
 	return 0.95 - 0.10*math.Log2(t/1800)
 }
 
-// confirmLong marks the used efforts longer than maxS that fall short of
-// LongShare of cp (cp 0: no CP to judge them by) as unconfirmed, and
-// numbers the distinct efforts again (an unconfirmed hour no longer joins
-// the efforts inside it into one).
-func confirmLong(es []Effort, maxS int, cp float64) {
+// A long maximal effort is ridden evenly and stands out from its ride
+// (the tool's rules, common practice of pacing a time trial): each half
+// of it holds at least evenShare of its mean power, and, where the ride
+// has standOutMinS or more outside it, its power is at least standOut
+// times the rest's. A window that is half a time trial and half the ride
+// home, or an endurance ride's steady hours, is neither.
+const (
+	evenShare    = 0.9
+	standOut     = 1.15
+	standOutMinS = 600
+)
+
+// confirmLong marks as unconfirmed the used efforts longer than maxS that
+// fall short of LongShare of cp (cp 0: no CP to judge them by), or that
+// are not ridden evenly or do not stand out from their ride (see
+// evenShare; rides gives each effort's ride, when known); then it numbers
+// the distinct efforts again (an unconfirmed hour no longer joins the
+// efforts inside it into one).
+func confirmLong(es []Effort, maxS int, cp float64, rides map[rideKey]*ingest.Ride) {
 	for i := range es {
 		e := &es[i]
-		if e.Status == EffortUsed && e.DurationS > maxS && (cp <= 0 || e.Watts < LongShare(float64(e.DurationS))*cp) {
+		if e.Status != EffortUsed || e.DurationS <= maxS {
+			continue
+		}
+		if cp <= 0 || e.Watts < LongShare(float64(e.DurationS))*cp || !paced(e.Point, rides[keyOfPoint(e.Point)]) {
 			e.Status = EffortUnconfirmed
 			e.Group = 0
 		}
 	}
 	groupEfforts(es)
+}
+
+// paced reports whether window e of ride r is ridden evenly and stands out
+// from the rest of the ride (true when the ride's power is not at hand).
+func paced(e powerduration.Point, r *ingest.Ride) bool {
+	if r == nil {
+		return true
+	}
+	p, err := r.Power()
+	if err != nil || e.OffsetS+e.DurationS > len(p) {
+		return true
+	}
+	mean := func(a, b int) float64 {
+		s := 0.0
+		for _, w := range p[a:b] {
+			s += w
+		}
+		return s / float64(b-a)
+	}
+	a, b := e.OffsetS, e.OffsetS+e.DurationS
+	mid := (a + b) / 2
+	if mean(a, mid) < evenShare*e.Watts || mean(mid, b) < evenShare*e.Watts {
+		return false
+	}
+	if rest := len(p) - e.DurationS; rest >= standOutMinS {
+		restW := (mean(0, len(p))*float64(len(p)) - e.Watts*float64(e.DurationS)) / float64(rest)
+		return e.Watts >= standOut*restW
+	}
+	return true
 }
 
 // candidateDurations are the durations at which efforts are looked for.

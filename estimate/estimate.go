@@ -179,10 +179,10 @@ func Estimate(rides []ingest.Ride, curves []powerduration.RideCurve, w powerdura
 	if fits, err := refit(cp2Efforts, 3, fitCP2); err == nil {
 		rep.Models = append(rep.Models, fits...)
 		cp0, w0 = fits[0].CPW, fits[0].WPrimeJ
-		confirmLong(rep.Efforts, opts.CP2MaxS, cp0)
+		confirmLong(rep.Efforts, opts.CP2MaxS, cp0, index)
 	} else {
 		rep.Failed[ModelCP2] = fitFailure(err, len(cp2Efforts))
-		confirmLong(rep.Efforts, opts.CP2MaxS, 0)
+		confirmLong(rep.Efforts, opts.CP2MaxS, 0, index)
 		cp0, w0 = startValues(clean)
 	}
 	rep.Rules = rules(clean, rep.Efforts, rep.model(ModelCP2))

@@ -147,7 +147,7 @@ func TestLongBestMustMatchCP(t *testing.T) {
 		{Point: powerduration.Point{DurationS: 1200, Watts: 320, Source: handSource}, Status: EffortUsed},
 		{Point: powerduration.Point{DurationS: 3600, Watts: 230, Source: handSource, OffsetS: 5000}, Status: EffortUsed},
 	}
-	confirmLong(es, 1200, 300)
+	confirmLong(es, 1200, 300, nil)
 	if es[0].Status != EffortUsed || es[1].Status != EffortUnconfirmed {
 		t.Errorf("statuses %s %s", es[0].Status, es[1].Status)
 	}
@@ -158,7 +158,7 @@ func TestLongBestMustMatchCP(t *testing.T) {
 		t.Errorf("rules %+v", rs)
 	}
 	es[1] = Effort{Point: powerduration.Point{DurationS: 3600, Watts: 275, Source: handSource, OffsetS: 5000}, Status: EffortUsed}
-	confirmLong(es, 1200, 300)
+	confirmLong(es, 1200, 300, nil)
 	if es[1].Status != EffortUsed {
 		t.Errorf("a maximal hour at 92 %% of CP: %s", es[1].Status)
 	}
@@ -248,5 +248,24 @@ func TestRangeUsesStudentT(t *testing.T) {
 	}
 	if want := 300 + 3.182*3 + Shortfall*300; math.Abs(th.HighW-want) > 0.01 {
 		t.Errorf("high %.2f, want %.2f", th.HighW, want)
+	}
+}
+
+// A long best that is half a time trial and half easy riding is not ridden
+// evenly; an endurance ride's steady hours do not stand out from the ride.
+func TestLongBestMustBePaced(t *testing.T) {
+	tt := rideOf(t, "tt.fit", 0, steadyRide(3*3600, 190, [3]float64{1800, 2700, 290}))
+	home := powerduration.Point{DurationS: 5400, Watts: (2700*291 + 2700*193) / 5400.0, OffsetS: 1800, Source: powerduration.SourceOf(&tt)}
+	if paced(home, &tt) {
+		t.Error("time trial plus the ride home taken as one paced 90-min effort")
+	}
+	trial := powerduration.Point{DurationS: 2700, Watts: 291, OffsetS: 1800, Source: powerduration.SourceOf(&tt)}
+	if !paced(trial, &tt) {
+		t.Error("the time trial itself is not paced")
+	}
+	steady := rideOf(t, "e.fit", 1, steadyRide(3*3600, 200))
+	hour := powerduration.Point{DurationS: 3600, Watts: 203, OffsetS: 3600, Source: powerduration.SourceOf(&steady)}
+	if paced(hour, &steady) {
+		t.Error("an hour of an endurance ride stands out from the ride")
 	}
 }

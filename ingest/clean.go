@@ -26,11 +26,12 @@ const (
 	// Relative spikes (common practice for power-meter glitches): a run of
 	// at most MaxSpikeRunS seconds whose power is more than SpikeRatio
 	// times both neighbouring seconds and more than SpikeExcessW above
-	// them. No rider goes from 300 W to 900 W and back within two
-	// seconds; a real sprint lasts several.
+	// them. No rider goes from 300 W to 900 W, or from 900 W to 1500 W,
+	// and back within two seconds; a real sprint builds and fades over
+	// several.
 	MaxSpikeRunS = 2
-	SpikeRatio   = 2.0
-	SpikeExcessW = 300.0
+	SpikeRatio   = 1.5
+	SpikeExcessW = 400.0
 	// SuspectMarginS: seconds on each side of a removed spike that are
 	// not used inside a maximal effort (the meter misbehaved there).
 	SuspectMarginS = 2
@@ -195,34 +196,53 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 }
 
 // removeRelativeSpikes treats as missing every run of at most
-// MaxSpikeRunS valid seconds far above both neighbouring valid seconds
-// (see SpikeRatio), counting them as spikes; it returns how many seconds
-// it removed.
+// MaxSpikeRunS valid seconds far above the valid seconds on both sides
+// (see SpikeRatio; a neighbour may be across a short missing run, as when
+// a sensor drops out and comes back with a spike), counting them as
+// spikes; it returns how many seconds it removed.
 func removeRelativeSpikes(power []float64, count []int32, q *Quality) int {
+	var valid []int
+	for i, c := range count {
+		if c > 0 {
+			valid = append(valid, i)
+		}
+	}
+	near := func(a, b int) bool { return b-a <= MaxFilledRunS+1 }
 	removed := 0
-	n := len(power)
-	for i := 1; i < n; i++ {
-		if count[i] == 0 || count[i-1] == 0 {
+	if len(valid) == 0 {
+		return 0
+	}
+	left := valid[0] // the last second before valid[x] that is still valid
+	for x := 1; x < len(valid); x++ {
+		i := valid[x]
+		if !near(left, i) {
+			left = i
 			continue
 		}
-		left := power[i-1]
-		for k := 1; k <= MaxSpikeRunS && i+k < n; k++ {
-			right := power[i+k]
-			if count[i+k] == 0 {
+		for k := 1; k <= MaxSpikeRunS && x+k < len(valid); k++ {
+			run := valid[x : x+k]
+			right := valid[x+k]
+			if !near(run[k-1], right) || run[k-1]-i != k-1 {
 				break
 			}
-			ref := max(left, right)
-			low := slices.Min(power[i : i+k])
+			ref := max(power[left], power[right])
+			low := math.Inf(1)
+			for _, j := range run {
+				low = min(low, power[j])
+			}
 			if low > SpikeRatio*ref && low-ref > SpikeExcessW {
-				for j := i; j < i+k; j++ {
+				for _, j := range run {
 					power[j], count[j] = 0, 0
 					q.SpikesRemoved++
 					q.SpikeOffsetsS = append(q.SpikeOffsetsS, j)
 					removed++
 				}
-				i += k - 1
+				x += k - 1
 				break
 			}
+		}
+		if count[valid[x]] > 0 {
+			left = valid[x]
 		}
 	}
 	return removed

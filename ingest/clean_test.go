@@ -77,6 +77,14 @@ func TestCleanRules(t *testing.T) {
 					t.Errorf("spikes %d at %v", q.SpikesRemoved, q.SpikeOffsetsS)
 				}
 			}},
+		{"rule 3: a spike right after a dropout is judged against the second before the dropout",
+			[]pt{{0, 240}, {1, nan}, {2, nan}, {3, 2384}, {4, 190}},
+			[]float64{240, 227.5, 215, 202.5, 190},
+			func(t *testing.T, q Quality) {
+				if q.SpikesRemoved != 1 || q.DropoutSeconds != 3 {
+					t.Errorf("spikes %d, dropouts %d s", q.SpikesRemoved, q.DropoutSeconds)
+				}
+			}},
 		{"rule 3: a 2-s spike too; a sprint of several seconds is not one",
 			[]pt{{0, 200}, {1, 1500}, {2, 1400}, {3, 200}, {4, 150}, {5, 900}, {6, 950}, {7, 880}, {8, 300}},
 			[]float64{200, 200, 200, 200, 150, 900, 950, 880, 300},
