@@ -88,6 +88,18 @@ func headline(rep Report, ctx gradeContext, choice string) *Threshold {
 		}
 		return slices.Index(headlineModels, a.Model) - slices.Index(headlineModels, b.Model)
 	})
+	// among the best graded, a model that follows the 2–20 min efforts
+	// clearly better than the preferred one takes the headline: a curve
+	// bent more than 1/t between 2 and 20 min (a large W′ with a low Pmax)
+	// leaves the 2-parameter fit's residuals in a pattern and its CP high
+	band := ctx.cp2Band()
+	best, bestRMSE := 0, bandRMSE(cands[0], band)
+	for i := 1; i < len(cands) && cands[i].Confidence == cands[0].Confidence; i++ {
+		if r := bandRMSE(cands[i], band); r < clearlyBetter*bandRMSE(cands[0], band) && r < bestRMSE {
+			best, bestRMSE = i, r
+		}
+	}
+	cands[0], cands[best] = cands[best], cands[0]
 	f := cands[0]
 	half := math.Max(tQuantile(f.DF)*f.CPSEW, 0.01*f.CPW)
 	if f.Confidence == Low {
@@ -149,6 +161,23 @@ func shortMisfit(f *Fit) string {
 		}
 	}
 	return ""
+}
+
+// clearlyBetter: a model's relative RMSE on the 2–20 min efforts must be
+// below this share of the preferred model's to take the headline from it.
+const clearlyBetter = 0.6
+
+// bandRMSE is a fit's root-mean-square relative residual on the efforts es.
+func bandRMSE(f Fit, es []Effort) float64 {
+	if len(es) == 0 {
+		return math.Inf(1)
+	}
+	s := 0.0
+	for _, e := range es {
+		r := (e.Watts - f.Power(float64(e.DurationS))) / e.Watts
+		s += r * r
+	}
+	return math.Sqrt(s / float64(len(es)))
 }
 
 // misfitShare: the mean relative residual of a band of efforts beyond which
