@@ -169,22 +169,26 @@ func hasCode(ws []Warning, code string) bool {
 // steps earlier (so the two share no ride), and the first with the last.
 func changes(ws []SeasonWindow, apart int) ([]Change, []Change, string) {
 	apart = max(apart, 1)
+	// only windows graded high are compared: a medium window's CP rests on
+	// thin or partly suspect efforts, and the accuracy report measured
+	// that comparing them names false changes in noisy seasons
+	sure := func(w SeasonWindow) bool { return w.Estimated && w.Confidence == High }
 	var out []Change
 	for i := range ws {
 		j := i - apart
-		if j < 0 || !ws[i].Estimated || !ws[j].Estimated {
+		if j < 0 || !sure(ws[i]) || !sure(ws[j]) {
 			continue
 		}
 		out = append(out, compare(ws[j], ws[i])...)
 	}
 	var est []SeasonWindow
 	for _, w := range ws {
-		if w.Estimated {
+		if sure(w) {
 			est = append(est, w)
 		}
 	}
 	if len(est) < 2 {
-		return out, nil, "Too few windows with enough data to say what changed."
+		return out, nil, "Too few windows graded high to say what changed."
 	}
 	a, b := est[0], est[len(est)-1]
 	overall := compare(a, b)
