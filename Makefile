@@ -6,10 +6,16 @@ GO ?= go
 build:
 	$(GO) build -o bin/sustain ./cmd/sustain
 
-# vet, then every test with the race detector (scans run in parallel).
+# vet, then every test: with the race detector for the packages that run
+# goroutines (scans, curves on a pool, the store, the command), without it
+# for the single-threaded numerics (estimate, the accuracy ground truth),
+# where it only slows the runs.
+RACE_PKGS = ./ingest/... ./powerduration/... ./internal/store/... ./cmd/...
+PLAIN_PKGS = ./estimate/... ./internal/accuracy/... ./internal/synth/... ./internal/export/...
 test:
 	$(GO) vet ./...
-	$(GO) test -race -count=1 -timeout 30m ./...
+	$(GO) test -race -count=1 -timeout 30m $(RACE_PKGS)
+	$(GO) test -count=1 -timeout 30m $(PLAIN_PKGS)
 
 # every benchmark, then the ratios the targets are stated in
 bench:
