@@ -206,23 +206,37 @@ func num(v *float64, scale float64, se *float64) string {
 }
 
 func renderSeason(w io.Writer, out seasonOut, so estimate.SeasonOptions, first, last string) {
-	fmt.Fprintf(w, "Season %s to %s: %d rides; windows of %d days every %d days; CP, W′ and Pmax from the %s model\n",
-		orOpen(first), orOpen(last), out.Rides, so.WindowDays, so.StepDays, so.Components)
+	comps := "CP, W′ and Pmax"
+	if so.Components == estimate.ModelCP2 {
+		comps = "CP and W′"
+	}
+	fmt.Fprintf(w, "Season %s to %s: %d rides; windows of %d days every %d days; %s from the %s model\n",
+		orOpen(first), orOpen(last), out.Rides, so.WindowDays, so.StepDays, comps, so.Components)
 	fmt.Fprintln(w, "(every ± below is the 95 % half-width: Student t for the fit's degrees of freedom × its standard error)")
 	fmt.Fprintln(w)
+	// a Pmax column only for a components model that has Pmax
+	withPmax := so.Components != estimate.ModelCP2
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "window\trides\tCP (W)\tW′ (kJ)\tPmax (W)\tthreshold (W)\tconfidence\t")
+	pmaxHead, pmaxNone := "", ""
+	if withPmax {
+		pmaxHead, pmaxNone = "Pmax (W)\t", "-\t"
+	}
+	fmt.Fprintf(tw, "window\trides\tCP (W)\tW′ (kJ)\t%sthreshold (W, model)\tconfidence\t\n", pmaxHead)
 	for _, x := range out.Windows {
 		if !x.Estimated {
-			fmt.Fprintf(tw, "%s – %s\t%d\t-\t-\t-\t-\t-\tnot estimated: %s\n", x.From, x.To, x.Rides, x.Reason)
+			fmt.Fprintf(tw, "%s – %s\t%d\t-\t-\t%s-\t-\tnot estimated: %s\n", x.From, x.To, x.Rides, pmaxNone, x.Reason)
 			continue
 		}
-		th := "-"
+		th := "not estimated"
 		if x.ThresholdW != nil {
 			th = fmt.Sprintf("%.0f (%.0f–%.0f, %s)", *x.ThresholdW, *x.LowW, *x.HighW, x.Headline)
 		}
-		fmt.Fprintf(tw, "%s – %s\t%d\t%s\t%s\t%s\t%s\t%s\t\n", x.From, x.To, x.Rides, num(x.CPW, 1, x.CPHalfW), num(x.WPrimeJ, 1000, x.WPrimeHalf),
-			num(x.PmaxW, 1, x.PmaxHalfW), th, *x.Confidence)
+		pmax := ""
+		if withPmax {
+			pmax = num(x.PmaxW, 1, x.PmaxHalfW) + "\t"
+		}
+		fmt.Fprintf(tw, "%s – %s\t%d\t%s\t%s\t%s%s\t%s\t\n", x.From, x.To, x.Rides, num(x.CPW, 1, x.CPHalfW), num(x.WPrimeJ, 1000, x.WPrimeHalf),
+			pmax, th, *x.Confidence)
 	}
 	tw.Flush()
 	fmt.Fprintf(w, "\nWhat changed (each window against the one %d days earlier, beyond both windows' uncertainty)\n", so.WindowDays)
