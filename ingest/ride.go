@@ -7,13 +7,20 @@
 //
 //   - samples are put into 1-second bins counted from the first sample;
 //   - several samples in a bin are averaged;
-//   - missing, negative, non-finite and implausibly high values ("spikes",
-//     above a ceiling of 2500 W by default) are treated as missing;
+//   - missing, negative, non-finite and implausibly high values ("spikes":
+//     above a ceiling of 2500 W by default, or one or two seconds far above
+//     the seconds on both sides, see SpikeRatio) are treated as missing;
 //   - a run of at most 5 missing seconds between two valid seconds is
-//     filled by linear interpolation (a sensor dropout); every other missing
-//     second is 0 W (stopped, paused, or a long dropout);
+//     filled by linear interpolation: a sensor dropout, unless it is only
+//     a step of the ride's normal sparse recording (FilledSeconds, not a
+//     repair); every other missing second is 0 W (stopped, paused, or a
+//     long dropout);
 //   - constant non-zero power for 60 s or more is reported as a stuck run
 //     but left as it is.
+//
+// Stuck runs and the seconds next to removed spikes are suspect (see
+// Quality.StuckSpans and Quality.SpikeMargins): downstream, no maximal
+// effort rests on them.
 //
 // Nothing in this package prints or writes files: Scan returns rides and a
 // reason for every file it could not read.
