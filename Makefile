@@ -11,7 +11,7 @@ build:
 # for the single-threaded numerics (estimate, the accuracy ground truth),
 # where it only slows the runs.
 RACE_PKGS = ./ingest/... ./powerduration/... ./internal/store/... ./cmd/...
-PLAIN_PKGS = ./estimate/... ./internal/accuracy/... ./internal/synth/... ./internal/export/...
+PLAIN_PKGS = ./estimate/... ./lactate/... ./internal/accuracy/... ./internal/synth/... ./internal/export/...
 test:
 	$(GO) vet ./...
 	$(GO) test -race -count=1 -timeout 30m $(RACE_PKGS)
@@ -30,6 +30,7 @@ demo:
 # a short run of each fuzz test (crashers land in the package's testdata/fuzz)
 fuzz:
 	for f in FuzzTCX FuzzCSV FuzzFIT FuzzClean; do $(GO) test ./ingest -run '^$$' -fuzz "^$$f$$" -fuzztime 30s || exit 1; done
+	$(GO) test ./lactate -run "^$$" -fuzz "^FuzzReadSteps$$" -fuzztime 30s
 
 # how well the estimates recover the truth of invented seasons of every
 # kind and truth model (a report, like bench; not a timed test)
