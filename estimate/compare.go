@@ -2,6 +2,7 @@ package estimate
 
 import (
 	"fmt"
+	"slices"
 	"strings"
 )
 
@@ -19,9 +20,10 @@ const (
 // Methods lists every method in its usual order.
 var Methods = []string{MethodCP2, MethodMorton, MethodOmni, Method20Min, Method8Min, Method60Min}
 
-// ParseMethods reads a comma-separated list; "morton3" and "omni" are
-// accepted for morton and ompd.
-func ParseMethods(s string) ([]string, error) {
+// ParseMethods reads a comma-separated list of Methods and of the extra
+// names given (methods of other sources, such as lactate tests); "morton3"
+// and "omni" are accepted for morton and ompd.
+func ParseMethods(s string, extra ...string) ([]string, error) {
 	var out []string
 	for _, m := range strings.Split(s, ",") {
 		m = strings.TrimSpace(strings.ToLower(m))
@@ -31,12 +33,9 @@ func ParseMethods(s string) ([]string, error) {
 		case ModelOmni:
 			m = MethodOmni
 		}
-		found := false
-		for _, k := range Methods {
-			found = found || k == m
-		}
-		if !found {
-			return nil, fmt.Errorf("unknown method %q (methods: %s)", m, strings.Join(Methods, ", "))
+		known := append(append([]string(nil), Methods...), extra...)
+		if !slices.Contains(known, m) {
+			return nil, fmt.Errorf("unknown method %q (methods: %s)", m, strings.Join(known, ", "))
 		}
 		out = append(out, m)
 	}
@@ -52,9 +51,8 @@ type MethodEstimate struct {
 	Confidence string  `json:"confidence"`
 }
 
-// ByMethod gives each method's estimate from a report. A rule of thumb is
-// graded medium when its effort is a maximal effort of its own and low
-// when that best is only part of a longer effort or padded.
+// ByMethod gives each method's estimate from a report, with its grade (a
+// rule of thumb's is the grade of the effort behind it, see rules).
 func ByMethod(rep Report) map[string]MethodEstimate {
 	out := map[string]MethodEstimate{}
 	for m, model := range map[string]string{MethodCP2: ModelCP2, MethodMorton: ModelMorton, MethodOmni: ModelOmni} {
@@ -64,13 +62,7 @@ func ByMethod(rep Report) map[string]MethodEstimate {
 	}
 	for _, r := range rep.Rules {
 		m := map[int]string{1200: Method20Min, 480: Method8Min, 3600: Method60Min}[r.Effort.DurationS]
-		conf := Low
-		for _, e := range rep.Efforts {
-			if e.DurationS == r.Effort.DurationS && e.Status == EffortUsed {
-				conf = Medium
-			}
-		}
-		out[m] = MethodEstimate{r.Watts, conf}
+		out[m] = MethodEstimate{r.Watts, r.Confidence}
 	}
 	return out
 }

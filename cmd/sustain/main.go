@@ -67,7 +67,10 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 			return usageError{err.Error()}
 		},
 		ExitErrHandler: func(*cli.Context, error) {},
-		Metadata:       map[string]any{},
+		// a repeatable flag takes one value each time: a value such as
+		// FILE@0:10:00+30m=2.0,2.4 keeps its comma
+		DisableSliceFlagSeparator: true,
+		Metadata:                  map[string]any{},
 		After: func(c *cli.Context) error {
 			closeStore(c.App)
 			return nil
@@ -79,6 +82,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 			seasonCommand(),
 			compareCommand(),
 			protocolCommand(),
+			lactateCommand(),
 			exportCommand(),
 			demoCommand(),
 		},

@@ -1,0 +1,567 @@
+package main
+
+import (
+	"encoding/csv"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+	"text/tabwriter"
+	"time"
+
+	"github.com/sustain-cycling/sustain/estimate"
+	"github.com/sustain-cycling/sustain/ingest"
+	"github.com/sustain-cycling/sustain/lactate"
+	"github.com/sustain-cycling/sustain/powerduration"
+	"github.com/urfave/cli/v2"
+)
+
+func lactateCommand() *cli.Command {
+	flags := append(ingestFlags(),
+		&cli.StringSliceFlag{Name: "trials", Usage: "a CSV of MLSS trials (power_w, lactate_10_mmol, lactate_30_mmol; optional date, athlete); repeat for more"},
+		&cli.StringSliceFlag{Name: "trial", Usage: "an MLSS trial in a ride file, FILE@H:MM:SS+30m=LA10,LA30 (lactate at minutes 10 and 30, mmol/L); its power is measured from the ride; repeat for more"},
+		&cli.StringSliceFlag{Name: "rides", Usage: "ride files or folders of the same athlete: the field CP and 20-min rule of the days around each test go beside the lactate thresholds; repeat for more"},
+		&cli.BoolFlag{Name: "csv", Usage: "one CSV row per test and method"},
+		&cli.StringFlag{Name: "plot", Usage: "write lactate against power with each method's threshold to FILE.png or FILE.svg"},
+	)
+	return &cli.Command{
+		Name:      "lactate",
+		Usage:     "blood-lactate step tests by their published methods (2 and 4 mmol/L, baseline + 1, Dmax, modified Dmax, log-log), MLSS trials, and the field estimate beside them",
+		ArgsUsage: "STEPTEST.csv... (columns power_w and lactate_mmol; optional heart_rate, step_s, athlete, test, date)",
+		Flags:     flags,
+		Action:    lactateAction,
+	}
+}
+
+// The lactate view: what `sustain lactate` shows, in every rendering.
+type lactateThresholdJSON struct {
+	Method       string   `json:"method"`
+	Label        string   `json:"label"`
+	Source       string   `json:"source"`
+	PowerW       *float64 `json:"power_w"`
+	LowW         *float64 `json:"low_w"`
+	HighW        *float64 `json:"high_w"`
+	HeartRateBPM *float64 `json:"heart_rate_bpm"`
+	LactateMmol  *float64 `json:"lactate_mmol"`
+	Note         string   `json:"note,omitempty"`
+}
+
+type lactateFieldJSON struct {
+	Window     powerduration.Window `json:"window"`
+	Rides      int                  `json:"rides"`
+	Threshold  thresholdJSON        `json:"threshold"`
+	Rule20W    *float64             `json:"rule_20min_w"`
+	Rule20Conf string               `json:"rule_20min_confidence,omitempty"`
+}
+
+type lactateGapJSON struct {
+	Method   string  `json:"method"`
+	LactateW float64 `json:"lactate_w"`
+	Field    string  `json:"field"`
+	FieldW   float64 `json:"field_w"`
+	DiffW    float64 `json:"diff_w"`
+	DiffPct  float64 `json:"diff_pct"`
+	Note     string  `json:"note,omitempty"`
+}
+
+type lactateTestJSON struct {
+	File         string                 `json:"file"`
+	Test         string                 `json:"test"`
+	Athlete      string                 `json:"athlete"`
+	Date         string                 `json:"date"`
+	Steps        []lactateStepJSON      `json:"steps"`
+	BaselineMmol float64                `json:"baseline_mmol"`
+	Thresholds   []lactateThresholdJSON `json:"thresholds"`
+	Notes        []string               `json:"notes"`
+	Field        *lactateFieldJSON      `json:"field"`
+	Gaps         []lactateGapJSON       `json:"gaps"`
+}
+
+type lactateStepJSON struct {
+	PowerW       float64  `json:"power_w"`
+	LactateMmol  float64  `json:"lactate_mmol"`
+	HeartRateBPM *float64 `json:"heart_rate_bpm"`
+	StepS        int      `json:"step_s,omitempty"`
+}
+
+type lactateTrialJSON struct {
+	Source    string   `json:"source"`
+	Athlete   string   `json:"athlete,omitempty"`
+	Date      string   `json:"date,omitempty"`
+	PowerW    float64  `json:"power_w"`
+	La10Mmol  float64  `json:"lactate_10_mmol"`
+	La30Mmol  float64  `json:"lactate_30_mmol"`
+	RiseMmol  float64  `json:"rise_mmol"`
+	Pass      bool     `json:"pass"`
+	MeasuredW *float64 `json:"measured_w,omitempty"`
+	CVPct     *float64 `json:"cv_pct,omitempty"`
+	Wandered  bool     `json:"wandered"`
+	Note      string   `json:"note,omitempty"`
+}
+
+type lactateMLSSJSON struct {
+	PassW *float64 `json:"pass_w"`
+	FailW *float64 `json:"fail_w"`
+	MidW  *float64 `json:"mid_w"`
+	Notes []string `json:"notes"`
+	Rule  string   `json:"rule"`
+}
+
+type lactateShiftJSON struct {
+	From      string   `json:"from"`
+	To        string   `json:"to"`
+	LT2FromW  *float64 `json:"lt2_from_w"`
+	LT2ToW    *float64 `json:"lt2_to_w"`
+	OBLAFromW *float64 `json:"obla4_from_w"`
+	OBLAToW   *float64 `json:"obla4_to_w"`
+	Message   string   `json:"message"`
+}
+
+type lactateOut struct {
+	Tests   []lactateTestJSON  `json:"tests"`
+	Trials  []lactateTrialJSON `json:"trials"`
+	MLSS    *lactateMLSSJSON   `json:"mlss"`
+	Shifts  []lactateShiftJSON `json:"shifts"`
+	Skipped []ingest.Skipped   `json:"skipped"`
+	Caution string             `json:"caution"`
+}
+
+// finite is a number for JSON, or null when it is NaN or infinite.
+func finitePtr(v float64) *float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return &v
+}
+
+func lactateAction(c *cli.Context) error {
+	if c.NArg() == 0 && len(c.StringSlice("trials")) == 0 && len(c.StringSlice("trial")) == 0 {
+		return usageError{"name at least one step-test CSV, --trials CSV or --trial FILE@H:MM:SS+30m=LA10,LA30"}
+	}
+	if c.Bool("json") && c.Bool("csv") {
+		return usageError{"choose one of --json and --csv"}
+	}
+	if p := c.String("plot"); p != "" && !isPlotName(p) {
+		return usageError{fmt.Sprintf("--plot %s: name a .png or .svg file", p)}
+	}
+	var specs []trialSpec
+	for _, s := range c.StringSlice("trial") {
+		t, err := parseTrialSpec(s)
+		if err != nil {
+			return usageError{"--trial " + err.Error()}
+		}
+		specs = append(specs, t)
+	}
+	out := lactateOut{Tests: []lactateTestJSON{}, Trials: []lactateTrialJSON{}, Shifts: []lactateShiftJSON{}, Skipped: []ingest.Skipped{}, Caution: estimate.Caution}
+	skip := func(file string, err error) {
+		out.Skipped = append(out.Skipped, ingest.Skipped{File: file, Reason: err.Error()})
+	}
+	var analyses []lactate.Analysis
+	for _, path := range c.Args().Slice() {
+		f, err := os.Open(path)
+		if err != nil {
+			skip(path, fmt.Errorf("cannot be opened (%v)", plainErr(err)))
+			continue
+		}
+		tests, bad, err := lactate.ReadSteps(f, path)
+		f.Close()
+		if err != nil {
+			skip(path, err)
+			continue
+		}
+		for _, b := range bad {
+			skip(path, b)
+		}
+		for _, t := range tests {
+			analyses = append(analyses, lactate.Analyse(t))
+		}
+	}
+	var trials []lactate.Trial
+	for _, path := range c.StringSlice("trials") {
+		f, err := os.Open(path)
+		if err != nil {
+			skip(path, fmt.Errorf("cannot be opened (%v)", plainErr(err)))
+			continue
+		}
+		ts, bad, err := lactate.ReadTrials(f, path)
+		f.Close()
+		if err != nil {
+			skip(path, err)
+			continue
+		}
+		for _, b := range bad {
+			skip(path, b)
+		}
+		trials = append(trials, ts...)
+	}
+	for _, sp := range specs {
+		t, err := sp.measure(c)
+		if err != nil {
+			skip(sp.file, err)
+			continue
+		}
+		trials = append(trials, t)
+	}
+	var bracket *lactate.Bracket
+	if len(trials) > 0 {
+		br := lactate.BracketOf(trials)
+		bracket = &br
+	}
+
+	// the field estimate around each test, from the athlete's rides
+	var rides ingest.Result
+	var curves []powerduration.RideCurve
+	if paths := c.StringSlice("rides"); len(paths) > 0 {
+		var err error
+		if rides, curves, err = scanPaths(c, paths); err != nil {
+			return err
+		}
+		out.Skipped = append(out.Skipped, rides.Skipped...)
+	}
+	eo := estimate.Options{}
+	for _, a := range analyses {
+		tj := testJSON(a)
+		if len(rides.Rides) > 0 {
+			win := aroundTest(a.Test.Date, powerduration.Newest(curves))
+			rep := estimate.Estimate(rides.Rides, curves, win, eo)
+			field := fieldOf(rep)
+			fj := &lactateFieldJSON{Window: win, Rides: rep.Rides, Threshold: thresholdOf(rep.Threshold), Rule20W: finitePtr(field.Rule20W), Rule20Conf: field.Rule20Conf}
+			tj.Field = fj
+			for _, g := range lactate.Gaps(field, &a, nil) {
+				tj.Gaps = append(tj.Gaps, lactateGapJSON(g))
+			}
+		}
+		out.Tests = append(out.Tests, tj)
+	}
+	for _, t := range trials {
+		j := lactateTrialJSON{Source: t.Source, Athlete: t.Athlete, Date: t.Date, PowerW: t.PowerW, La10Mmol: t.Lactate10Mmol, La30Mmol: t.Lactate30Mmol,
+			RiseMmol: t.RiseMmol(), Pass: t.Pass(), Wandered: t.Wandered, Note: t.Note}
+		if t.RideFile != "" {
+			j.MeasuredW, j.CVPct = finitePtr(t.MeasuredW), finitePtr(t.CVPct)
+		}
+		out.Trials = append(out.Trials, j)
+	}
+	if bracket != nil {
+		out.MLSS = &lactateMLSSJSON{PassW: finitePtr(bracket.PassW), FailW: finitePtr(bracket.FailW), MidW: finitePtr(bracket.MidW()),
+			Notes: append([]string{}, bracket.Notes...),
+			Rule:  fmt.Sprintf("a trial passes when lactate rises by no more than %.1f mmol/L from minute 10 to 30 (Heck et al. 1985; Beneke 2003)", lactate.MLSSRiseMmol)}
+		// MLSS beside the field estimate of the days around the trials
+		if len(rides.Rides) > 0 {
+			rep := estimate.Estimate(rides.Rides, curves, aroundTest(trialDate(trials), powerduration.Newest(curves)), eo)
+			tj := lactateTestJSON{Test: "MLSS trials", Steps: []lactateStepJSON{}, Thresholds: []lactateThresholdJSON{}, Notes: []string{}}
+			field := fieldOf(rep)
+			tj.Field = &lactateFieldJSON{Window: rep.Window, Rides: rep.Rides, Threshold: thresholdOf(rep.Threshold), Rule20W: finitePtr(field.Rule20W), Rule20Conf: field.Rule20Conf}
+			for _, g := range lactate.Gaps(field, nil, bracket) {
+				tj.Gaps = append(tj.Gaps, lactateGapJSON(g))
+			}
+			out.Tests = append(out.Tests, tj)
+		}
+	}
+	for _, byAthlete := range groupByAthlete(analyses) {
+		for _, s := range lactate.Shifts(byAthlete) {
+			out.Shifts = append(out.Shifts, lactateShiftJSON{From: s.From, To: s.To, LT2FromW: finitePtr(s.LT2FromW), LT2ToW: finitePtr(s.LT2ToW),
+				OBLAFromW: finitePtr(s.OBLAFromW), OBLAToW: finitePtr(s.OBLAToW), Message: s.Message})
+		}
+	}
+
+	w := c.App.Writer
+	var err error
+	switch {
+	case c.Bool("json"):
+		err = writeJSON(w, out)
+	case c.Bool("csv"):
+		err = writeLactateCSV(w, out)
+	default:
+		renderLactate(w, out)
+	}
+	if err != nil {
+		return err
+	}
+	reportSkipped(c.App.ErrWriter, out.Skipped)
+	if p := c.String("plot"); p != "" && len(analyses) > 0 {
+		if err := plotLactate(p, analyses, bracket); err != nil {
+			return fmt.Errorf("plot %s: %w", p, err)
+		}
+		fmt.Fprintf(c.App.ErrWriter, "plot written to %s\n", p)
+	}
+	if len(analyses) == 0 && len(trials) == 0 {
+		return cli.Exit("no lactate test could be read", exitNothing)
+	}
+	return nil
+}
+
+// plainErr drops the path from an os error (the line names the file).
+func plainErr(err error) error {
+	if pe, ok := err.(*os.PathError); ok {
+		return pe.Err
+	}
+	return err
+}
+
+func testJSON(a lactate.Analysis) lactateTestJSON {
+	t := a.Test
+	j := lactateTestJSON{File: t.File, Test: t.Test, Athlete: t.Athlete, Date: t.Date, BaselineMmol: a.BaselineMmol,
+		Steps: []lactateStepJSON{}, Thresholds: []lactateThresholdJSON{}, Notes: append([]string{}, a.Notes...), Gaps: []lactateGapJSON{}}
+	for _, s := range t.Steps {
+		j.Steps = append(j.Steps, lactateStepJSON{PowerW: s.PowerW, LactateMmol: s.LactateMmol, HeartRateBPM: finitePtr(s.HeartRateBPM), StepS: s.DurationS})
+	}
+	for _, th := range a.Thresholds {
+		j.Thresholds = append(j.Thresholds, lactateThresholdJSON{Method: th.Method, Label: th.Label, Source: th.Source,
+			PowerW: finitePtr(th.PowerW), LowW: finitePtr(th.LowW), HighW: finitePtr(th.HighW),
+			HeartRateBPM: finitePtr(th.HeartRateBPM), LactateMmol: finitePtr(th.LactateMmol), Note: th.Note})
+	}
+	return j
+}
+
+// aroundTest is the window of the field estimate beside a test: the 42
+// days ending a week after it (efforts of the block the test closes, and
+// the week after it); without a date, the 90 days ending at the newest ride.
+func aroundTest(date, newest string) powerduration.Window {
+	d, err := time.Parse("2006-01-02", date)
+	if err != nil {
+		return powerduration.LastDays(newest, 90)
+	}
+	return powerduration.LastDays(d.AddDate(0, 0, 7).Format("2006-01-02"), 42)
+}
+
+func trialDate(ts []lactate.Trial) string {
+	d := ""
+	for _, t := range ts {
+		d = max(d, t.Date)
+	}
+	return d
+}
+
+// fieldOf is the field estimate a test is set beside.
+func fieldOf(rep estimate.Report) lactate.Field {
+	f := lactate.Field{From: rep.Window.From, To: rep.Window.To, Rule20W: math.NaN()}
+	if th := rep.Threshold; th.Estimated() {
+		f.Estimated, f.CPW, f.LowW, f.HighW, f.Model, f.Confidence = true, th.Watts, th.LowW, th.HighW, th.Model, th.Confidence
+	} else if th != nil {
+		f.Reason = th.Reason
+	}
+	for _, r := range rep.Rules {
+		if r.Effort.DurationS == 1200 {
+			f.Rule20W, f.Rule20Conf = r.Watts, r.Confidence
+		}
+	}
+	return f
+}
+
+func groupByAthlete(as []lactate.Analysis) [][]lactate.Analysis {
+	var order []string
+	by := map[string][]lactate.Analysis{}
+	for _, a := range as {
+		if _, ok := by[a.Test.Athlete]; !ok {
+			order = append(order, a.Test.Athlete)
+		}
+		by[a.Test.Athlete] = append(by[a.Test.Athlete], a)
+	}
+	var out [][]lactate.Analysis
+	for _, k := range order {
+		out = append(out, by[k])
+	}
+	return out
+}
+
+// trialSpec is FILE@H:MM:SS+30m=LA10,LA30.
+type trialSpec struct {
+	file            string
+	startS, lengthS int
+	la10, la30      float64
+}
+
+func parseTrialSpec(s string) (trialSpec, error) {
+	var t trialSpec
+	at := strings.LastIndex(s, "@")
+	eq := strings.LastIndex(s, "=")
+	if at <= 0 || eq < at {
+		return t, fmt.Errorf("%q is not FILE@H:MM:SS+30m=LA10,LA30", s)
+	}
+	t.file = s[:at]
+	when, la := s[at+1:eq], s[eq+1:]
+	plus := strings.Index(when, "+")
+	if plus < 0 {
+		return t, fmt.Errorf("%q: give the trial's length, e.g. @0:15:00+30m", s)
+	}
+	var err error
+	if t.startS, err = parseClock(when[:plus]); err != nil {
+		return t, err
+	}
+	if t.lengthS, err = parseLength(when[plus+1:]); err != nil {
+		return t, err
+	}
+	if t.lengthS < 1800 {
+		return t, fmt.Errorf("%q: an MLSS trial lasts 30 minutes", s)
+	}
+	vals := strings.Split(la, ",")
+	if len(vals) != 2 {
+		return t, fmt.Errorf("%q: give lactate at minutes 10 and 30 after =, e.g. =2.1,2.6", s)
+	}
+	if t.la10, err = strconv.ParseFloat(strings.TrimSpace(vals[0]), 64); err != nil {
+		return t, fmt.Errorf("%q: lactate %q is not a number", s, vals[0])
+	}
+	if t.la30, err = strconv.ParseFloat(strings.TrimSpace(vals[1]), 64); err != nil {
+		return t, fmt.Errorf("%q: lactate %q is not a number", s, vals[1])
+	}
+	return t, nil
+}
+
+// measure reads the trial's ride and measures minutes 10–30.
+func (sp trialSpec) measure(c *cli.Context) (lactate.Trial, error) {
+	t := lactate.Trial{PowerW: math.NaN(), Lactate10Mmol: sp.la10, Lactate30Mmol: sp.la30, RideFile: sp.file, StartS: sp.startS, DurationS: sp.lengthS,
+		Source: fmt.Sprintf("%s@%s", sp.file, clock(sp.startS))}
+	opts, err := ingestOptions(c)
+	if err != nil {
+		return t, err
+	}
+	rides, err := ingest.ReadFile(sp.file, opts)
+	if err != nil {
+		return t, err
+	}
+	r := &rides[0]
+	t.Date = r.Date()
+	power, err := r.Power()
+	if err != nil {
+		return t, err
+	}
+	if err := t.CheckRide(power); err != nil {
+		return t, err
+	}
+	if t.Lactate10Mmol <= 0 || t.Lactate10Mmol > lactate.MaxLactate || t.Lactate30Mmol <= 0 || t.Lactate30Mmol > lactate.MaxLactate {
+		return t, fmt.Errorf("lactate outside 0–%.0f mmol/L", lactate.MaxLactate)
+	}
+	return t, nil
+}
+
+func fmtW(v *float64) string {
+	if v == nil {
+		return "-"
+	}
+	return fmt.Sprintf("%.0f", *v)
+}
+
+func renderLactate(w io.Writer, out lactateOut) {
+	for i, t := range out.Tests {
+		if i > 0 {
+			fmt.Fprintln(w)
+		}
+		if len(t.Steps) > 0 {
+			name := strings.Join(strings.Fields(t.Athlete+" "+orOpen(t.Date)), " ")
+			fmt.Fprintf(w, "Step test %s (%s): %d steps, baseline %.1f mmol/L (the lowest before the curve starts rising)\n",
+				name, t.File, len(t.Steps), t.BaselineMmol)
+			tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+			fmt.Fprintln(tw, "  method\tpower (W)\t95 % interval (W)\theart rate\tlactate (mmol/L)\tsource\tnote")
+			for _, th := range t.Thresholds {
+				iv, hr, la := "-", "-", "-"
+				if th.LowW != nil && th.HighW != nil {
+					iv = fmt.Sprintf("%.0f–%.0f", *th.LowW, *th.HighW)
+				}
+				if th.HeartRateBPM != nil {
+					hr = fmt.Sprintf("%.0f bpm", *th.HeartRateBPM)
+				}
+				if th.LactateMmol != nil {
+					la = fmt.Sprintf("%.1f", *th.LactateMmol)
+				}
+				fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t%s\n", th.Label, fmtW(th.PowerW), iv, hr, la, th.Source, th.Note)
+			}
+			tw.Flush()
+			fmt.Fprintln(w, "  (interval: bootstrap over the steps, for the methods fitted through all of them)")
+			for _, n := range t.Notes {
+				fmt.Fprintf(w, "  Note: %s\n", n)
+			}
+		} else {
+			fmt.Fprintln(w, "MLSS trials beside the field estimate")
+		}
+		if f := t.Field; f != nil {
+			fmt.Fprintf(w, "  Field estimate, %s to %s (%d rides): ", f.Window.From, f.Window.To, f.Rides)
+			if th := f.Threshold; th.Watts != nil {
+				fmt.Fprintf(w, "CP %.0f W (%.0f–%.0f, %s, %s)", *th.Watts, *th.LowW, *th.HighW, th.Confidence, th.Model)
+			} else {
+				fmt.Fprintf(w, "CP not estimated: %s", th.Reason)
+			}
+			if f.Rule20W != nil {
+				fmt.Fprintf(w, "; 95%% of best 20 min %.0f W (%s)", *f.Rule20W, f.Rule20Conf)
+			}
+			fmt.Fprintln(w)
+			for _, g := range t.Gaps {
+				if g.Field != "cp" {
+					continue
+				}
+				fmt.Fprintf(w, "    CP − %s: %+.0f W (%+.1f %%)", g.Method, g.DiffW, g.DiffPct)
+				if g.Note != "" {
+					fmt.Fprintf(w, "  %s", g.Note)
+				}
+				fmt.Fprintln(w)
+			}
+			fmt.Fprintln(w, "    (CP usually sits a little above MLSS: Pringle & Jones 2002)")
+		}
+	}
+	if len(out.Trials) > 0 {
+		if len(out.Tests) > 0 {
+			fmt.Fprintln(w)
+		}
+		fmt.Fprintln(w, "MLSS trials")
+		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+		fmt.Fprintln(tw, "  power (W)\tlactate 10 min\t30 min\trise\tresult\tfrom the ride\tsource")
+		for _, t := range out.Trials {
+			res := "fail"
+			if t.Pass {
+				res = "pass"
+			}
+			ride := "-"
+			if t.MeasuredW != nil {
+				ride = fmt.Sprintf("%.0f W, 30-s means vary %.1f %%", *t.MeasuredW, *t.CVPct)
+			}
+			if t.Wandered {
+				res += " (left out: " + t.Note + ")"
+			}
+			fmt.Fprintf(tw, "  %.0f\t%.1f\t%.1f\t%+.1f\t%s\t%s\t%s\n", t.PowerW, t.La10Mmol, t.La30Mmol, t.RiseMmol, res, ride, t.Source)
+		}
+		tw.Flush()
+		if m := out.MLSS; m != nil {
+			fmt.Fprintf(w, "  MLSS between %s and %s W (%s)\n", fmtW(m.PassW), fmtW(m.FailW), m.Rule)
+			for _, n := range m.Notes {
+				fmt.Fprintf(w, "  Note: %s\n", n)
+			}
+		}
+	}
+	if len(out.Shifts) > 0 {
+		fmt.Fprintln(w, "\nOver time")
+		for _, s := range out.Shifts {
+			fmt.Fprintf(w, "  %s → %s: %s\n", s.From, s.To, s.Message)
+		}
+	}
+	fmt.Fprintf(w, "\nCaution: %s\n", estimate.Caution)
+}
+
+func writeLactateCSV(w io.Writer, out lactateOut) error {
+	cw := csv.NewWriter(w)
+	cw.Write([]string{"athlete", "date", "test", "method", "power_w", "low_w", "high_w", "heart_rate_bpm", "source", "note"})
+	num := func(v *float64) string {
+		if v == nil {
+			return ""
+		}
+		return strconv.FormatFloat(*v, 'f', 1, 64)
+	}
+	for _, t := range out.Tests {
+		for _, th := range t.Thresholds {
+			cw.Write([]string{t.Athlete, t.Date, t.Test, th.Method, num(th.PowerW), num(th.LowW), num(th.HighW), num(th.HeartRateBPM), th.Source, th.Note})
+		}
+	}
+	if m := out.MLSS; m != nil {
+		cw.Write([]string{"", trialDateOf(out.Trials), "MLSS trials", lactate.MethodMLSS, num(m.MidW), num(m.PassW), num(m.FailW), "", "Heck et al. 1985; Beneke 2003", strings.Join(m.Notes, "; ")})
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+func trialDateOf(ts []lactateTrialJSON) string {
+	d := ""
+	for _, t := range ts {
+		d = max(d, t.Date)
+	}
+	return d
+}
