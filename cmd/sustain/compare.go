@@ -19,7 +19,9 @@ import (
 func compareCommand() *cli.Command {
 	flags := append(ingestFlags(), estimateFlags()...)
 	flags = append(flags,
-		&cli.StringFlag{Name: "methods", Value: strings.Join(estimate.Methods, ","), Usage: "methods to compare: " + strings.Join(estimate.Methods, ", ")},
+		&cli.StringFlag{Name: "methods", Value: strings.Join(estimate.Methods, ","), Usage: "methods to compare: " + strings.Join(append(append([]string{}, estimate.Methods...), lactateMethods()...), ", ") + " (the lactate methods need --lactate or --trials)"},
+		&cli.StringSliceFlag{Name: "lactate", Usage: "step-test CSV(s) with an athlete column (a squad) or dates (windows): their thresholds become methods obla4, lt2, base1, dmax, moddmax, loglog; repeat for more"},
+		&cli.StringSliceFlag{Name: "trials", Usage: "MLSS trial CSV(s) with an athlete column or dates: the MLSS bracket's middle becomes method mlss; repeat for more"},
 		&cli.StringFlag{Name: "window", Value: "90d", Usage: "each athlete's window, ending at their newest ride; for one athlete, the length of each of the consecutive windows compared"},
 		&cli.BoolFlag{Name: "csv", Usage: "print each subject's estimate by each method as CSV rows"},
 		&cli.StringFlag{Name: "plot", Usage: "Bland–Altman plots (difference against mean) of the first method against each other, to FILE.png or FILE.svg"},
@@ -34,10 +36,11 @@ func compareCommand() *cli.Command {
 }
 
 func compareAction(c *cli.Context) error {
-	methods, err := estimate.ParseMethods(c.String("methods"))
+	methods, err := estimate.ParseMethods(c.String("methods"), lactateMethods()...)
 	if err != nil {
 		return usageError{"--methods: " + err.Error()}
 	}
+	lab, labSkipped := readLab(c)
 	days, err := powerduration.ParseDays(c.String("window"))
 	if err != nil {
 		return usageError{"--window: " + err.Error()}
@@ -56,7 +59,7 @@ func compareAction(c *cli.Context) error {
 		return err
 	}
 	var subjects []estimate.Subject
-	var skipped []ingest.Skipped
+	skipped := labSkipped
 	kind := "windows"
 	if names, ok := squadOf(c); ok {
 		kind = "athletes"
@@ -71,17 +74,17 @@ func compareAction(c *cli.Context) error {
 				continue
 			}
 			rep := estimate.Estimate(res.Rides, curves, powerduration.LastDays(powerduration.Newest(curves), days), eo)
-			subjects = append(subjects, estimate.Subject{Name: n, Estimates: estimate.ByMethod(rep)})
+			subjects = append(subjects, estimate.Subject{Name: n, Estimates: lab.add(estimate.ByMethod(rep), n, powerduration.Window{})})
 		}
 	} else {
 		res, curves, err := scan(c)
 		if err != nil {
 			return err
 		}
-		skipped = res.Skipped
+		skipped = append(skipped, res.Skipped...)
 		for _, w := range powerduration.Consecutive(curves, days) {
 			if rep := estimate.Estimate(res.Rides, curves, w, eo); rep.Rides > 0 {
-				subjects = append(subjects, estimate.Subject{Name: w.From + "–" + w.To, Estimates: estimate.ByMethod(rep)})
+				subjects = append(subjects, estimate.Subject{Name: w.From + "–" + w.To, Estimates: lab.add(estimate.ByMethod(rep), "", w)})
 			}
 		}
 	}

@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
@@ -139,5 +140,56 @@ func TestProtocolCommands(t *testing.T) {
 	}
 	if code, _, _ := runCmd(t, "protocol", "trials", "ride.fit@noon+3m"); code != exitUsage {
 		t.Errorf("bad effort: exit %d", code)
+	}
+}
+
+// Lactate methods across a squad: each invented athlete's MLSS is placed
+// 15 W below CP and bracketed by trials at MLSS −20, −5, +10 and +25 W, so
+// cp2 − mlss is about 15 − 2.5 = 12.5 W for every athlete (plus the field
+// CP's own error of a few watts).
+func TestCompareWithLactate(t *testing.T) {
+	dir := t.TempDir()
+	squad := []synth.Athlete{
+		{Name: "ana", CPW: 240, WPrimeJ: 17000, PmaxW: 900},
+		{Name: "ben", CPW: 275, WPrimeJ: 20000, PmaxW: 1050},
+		{Name: "cai", CPW: 300, WPrimeJ: 22000, PmaxW: 1150},
+	}
+	var steps, trials strings.Builder
+	steps.WriteString("athlete,power_w,lactate_mmol\n")
+	trials.WriteString("athlete,power_w,lactate_10_mmol,lactate_30_mmol\n")
+	for i, a := range squad {
+		writeAthlete(t, dir, a.Name, func(int) synth.Athlete { return a }, 12, uint64(i+1))
+		la := synth.LactateAthlete{MLSSW: a.CPW - 15, RestMmol: 1}
+		for p := 150.0; p <= 350; p += 25 {
+			fmt.Fprintf(&steps, "%s,%.0f,%.3f\n", a.Name, p, la.StepLactate(p))
+		}
+		for _, d := range []float64{-20, -5, 10, 25} {
+			x, y := la.Trial(la.MLSSW + d)
+			fmt.Fprintf(&trials, "%s,%.1f,%.2f,%.2f\n", a.Name, la.MLSSW+d, x, y)
+		}
+	}
+	sp, tp := filepath.Join(t.TempDir(), "steps.csv"), filepath.Join(t.TempDir(), "trials.csv")
+	os.WriteFile(sp, []byte(steps.String()), 0o644)
+	os.WriteFile(tp, []byte(trials.String()), 0o644)
+	code, out, errs := runCmd(t, "compare", dir, "--methods", "cp2,mlss,obla4,dmax", "--lactate", sp, "--trials", tp, "--json")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var js struct {
+		Pairs []struct {
+			A, B  string
+			N     int      `json:"n"`
+			BiasW *float64 `json:"bias_w"`
+		} `json:"pairs"`
+	}
+	if err := json.Unmarshal([]byte(out), &js); err != nil {
+		t.Fatal(err)
+	}
+	p := js.Pairs[0]
+	if p.A != "cp2" || p.B != "mlss" || p.N != 3 || p.BiasW == nil || math.Abs(*p.BiasW-12.5) > 6 {
+		t.Errorf("cp2 − mlss %+v (bias %v)", p, p.BiasW)
+	}
+	if code, _, _ := runCmd(t, "compare", dir, "--methods", "cp2,lactate9"); code != exitUsage {
+		t.Errorf("unknown method: exit %d", code)
 	}
 }

@@ -565,3 +565,92 @@ func trialDateOf(ts []lactateTrialJSON) string {
 	}
 	return d
 }
+
+// lactateMethods are the lactate-based methods `compare` takes.
+func lactateMethods() []string {
+	var ms []string
+	for _, m := range lactate.Methods {
+		ms = append(ms, m.Name)
+	}
+	return append(ms, lactate.MethodMLSS)
+}
+
+// labTests are the lactate tests and trials `compare` sets beside the
+// field methods.
+type labTests struct {
+	analyses []lactate.Analysis
+	trials   []lactate.Trial
+}
+
+// readLab reads compare's --lactate and --trials files.
+func readLab(c *cli.Context) (labTests, []ingest.Skipped) {
+	var lab labTests
+	var skipped []ingest.Skipped
+	for _, kind := range []string{"lactate", "trials"} {
+		for _, path := range c.StringSlice(kind) {
+			f, err := os.Open(path)
+			if err != nil {
+				skipped = append(skipped, ingest.Skipped{File: path, Reason: fmt.Sprintf("cannot be opened (%v)", plainErr(err))})
+				continue
+			}
+			var bad []error
+			if kind == "lactate" {
+				var tests []lactate.StepTest
+				tests, bad, err = lactate.ReadSteps(f, path)
+				for _, t := range tests {
+					lab.analyses = append(lab.analyses, lactate.Analyse(t))
+				}
+			} else {
+				var ts []lactate.Trial
+				ts, bad, err = lactate.ReadTrials(f, path)
+				lab.trials = append(lab.trials, ts...)
+			}
+			f.Close()
+			if err != nil {
+				bad = append(bad, err)
+			}
+			for _, b := range bad {
+				skipped = append(skipped, ingest.Skipped{File: path, Reason: b.Error()})
+			}
+		}
+	}
+	return lab, skipped
+}
+
+// add puts the lactate methods of one subject into its estimates: the
+// latest step test of the athlete (or dated within the window), and the
+// MLSS bracket of its trials. A placed threshold is graded medium (a
+// measured curve, but one test), an MLSS bracket medium when both its ends
+// exist.
+func (lab labTests) add(es map[string]estimate.MethodEstimate, athlete string, w powerduration.Window) map[string]estimate.MethodEstimate {
+	mine := func(a, date string) bool {
+		if athlete != "" {
+			return a == athlete
+		}
+		return date != "" && w.Contains(date)
+	}
+	var latest *lactate.Analysis
+	for i := range lab.analyses {
+		a := &lab.analyses[i]
+		if mine(a.Test.Athlete, a.Test.Date) && (latest == nil || a.Test.Date >= latest.Test.Date) {
+			latest = a
+		}
+	}
+	if latest != nil {
+		for _, th := range latest.Thresholds {
+			if th.OK() {
+				es[th.Method] = estimate.MethodEstimate{Watts: th.PowerW, Confidence: estimate.Medium}
+			}
+		}
+	}
+	var ts []lactate.Trial
+	for _, t := range lab.trials {
+		if mine(t.Athlete, t.Date) {
+			ts = append(ts, t)
+		}
+	}
+	if br := lactate.BracketOf(ts); len(ts) > 0 && !math.IsNaN(br.MidW()) {
+		es[lactate.MethodMLSS] = estimate.MethodEstimate{Watts: br.MidW(), Confidence: estimate.Medium}
+	}
+	return es
+}
