@@ -3,7 +3,6 @@ package lactate
 import (
 	"fmt"
 	"math"
-	"slices"
 	"strings"
 )
 
@@ -32,8 +31,8 @@ type Gap struct {
 	Note     string
 }
 
-// BelowShare: a field CP more than this share below a lactate threshold is
-// the wrong way round for CP, which usually sits above MLSS (Pringle &
+// BelowShare: a field CP more than this share below MLSS is the wrong way
+// round, for CP usually sits above MLSS (Pringle &
 // Jones 2002, Eur J Appl Physiol: CP above MLSS in every subject; the size
 // of the gap from memory, several per cent) and is flagged for a second
 // look.
@@ -61,8 +60,8 @@ func Gaps(f Field, a *Analysis, br *Bracket) []Gap {
 	for _, t := range ths {
 		if f.Estimated {
 			g := Gap{Method: t.name, LactateW: t.w, Field: "cp", FieldW: f.CPW, DiffW: f.CPW - t.w, DiffPct: 100 * (f.CPW - t.w) / t.w}
-			if f.CPW < (1-BelowShare)*t.w && (t.name == MethodMLSS || slices.Contains([]string{MethodDmax, MethodModDmax, MethodLogLog, MethodBase1}, t.name)) {
-				g.Note = fmt.Sprintf("CP is %.0f %% below the %s threshold, where it usually sits above MLSS: worth a second look (were the field efforts maximal? were the test's steps long enough?)", -g.DiffPct, t.name)
+			if f.CPW < (1-BelowShare)*t.w && t.name == MethodMLSS {
+				g.Note = fmt.Sprintf("CP is %.0f %% below MLSS, where it usually sits above it: worth a second look (were the field efforts maximal? was the trials' power held?)", -g.DiffPct)
 			}
 			out = append(out, g)
 		}

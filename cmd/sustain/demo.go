@@ -23,7 +23,7 @@ const (
 func demoCommand() *cli.Command {
 	return &cli.Command{
 		Name:  "demo",
-		Usage: "write an invented season of rides to a folder and run inspect, curve, estimate and season on it",
+		Usage: "write an invented season of rides and lactate tests to a folder and run inspect, curve, estimate, season and lactate on it",
 		Flags: []cli.Flag{
 			&cli.StringFlag{Name: "out", Usage: "folder for the invented rides and the plots (default: a new temporary folder)"},
 		},
@@ -48,19 +48,36 @@ func demoAction(c *cli.Context) error {
 		return err
 	}
 	rides := filepath.Join(dir, "rides")
+	// a lactate step test before the block and one after it, and three
+	// MLSS trials after it; the invented MLSS sits 15 W below CP
+	lab := filepath.Join(dir, "lab")
+	if err := os.MkdirAll(lab, 0o755); err != nil {
+		return err
+	}
+	prog := synth.Block(demoAthlete, demoCPGainW, demoWLossJ)
+	before, after := synth.LactateAthlete{MLSSW: prog(39).CPW - 15, RestMmol: 1}, synth.LactateAthlete{MLSSW: prog(109).CPW - 15, RestMmol: 1}
+	powers := []float64{150, 180, 210, 240, 270, 300, 330}
+	stepsCSV, trialsCSV := filepath.Join(lab, "steps.csv"), filepath.Join(lab, "trials.csv")
+	if err := os.WriteFile(stepsCSV, []byte(before.StepTestCSV("2026-04-10", powers)+strings.SplitN(after.StepTestCSV("2026-06-19", powers), "\n", 2)[1]), 0o644); err != nil {
+		return err
+	}
+	if err := os.WriteFile(trialsCSV, []byte(after.TrialsCSV([]string{"2026-06-22", "2026-06-24", "2026-06-26"}, []float64{260, 275, 290})), 0o644); err != nil {
+		return err
+	}
 	w := c.App.Writer
 	fmt.Fprintf(w, "An invented season: %d weeks of rides (FIT, TCX and gzipped CSV) by an invented athlete with CP %.0f W, W′ %.1f kJ and\n",
 		demoWeeks, demoAthlete.CPW, demoAthlete.WPrimeJ/1000)
 	fmt.Fprintf(w, "Pmax %.0f W at the start; a block from week 7 to week 12 raises CP by %d W and trims W′ by %.1f kJ. A few files carry\n",
 		demoAthlete.PmaxW, demoCPGainW, demoWLossJ/1000.0)
 	fmt.Fprintf(w, "the ordinary faults of field data: dropouts, spikes, stuck power, a file cut short, and runs that are not rides.\n")
-	fmt.Fprintf(w, "Rides written to %s\n", rides)
-	curvePlot, estPlot, seasonPlot := filepath.Join(dir, "curve.png"), filepath.Join(dir, "estimate.png"), filepath.Join(dir, "season.png")
+	fmt.Fprintf(w, "Rides written to %s; two lactate step tests (before and after the block) and three MLSS trials to %s\n", rides, lab)
+	curvePlot, estPlot, seasonPlot, labPlot := filepath.Join(dir, "curve.png"), filepath.Join(dir, "estimate.png"), filepath.Join(dir, "season.png"), filepath.Join(dir, "lactate.png")
 	steps := [][]string{
 		{"inspect", rides, "--problems"},
 		{"curve", rides, "--last", "42d", "--compare-from", "2026-03-02", "--compare-to", "2026-04-12", "--plot", curvePlot},
 		{"estimate", rides, "--last", "42d", "--plot", estPlot},
 		{"season", rides, "--plot", seasonPlot},
+		{"lactate", stepsCSV, "--trials", trialsCSV, "--rides", rides, "--plot", labPlot},
 	}
 	for _, args := range steps {
 		fmt.Fprintf(w, "\n$ sustain %s\n", strings.Join(args, " "))
@@ -69,7 +86,7 @@ func demoAction(c *cli.Context) error {
 			return fmt.Errorf("demo step %q: %w", args[0], err)
 		}
 	}
-	fmt.Fprintf(w, "\nPlots: %s, %s, %s\n", curvePlot, estPlot, seasonPlot)
+	fmt.Fprintf(w, "\nPlots: %s, %s, %s, %s\n", curvePlot, estPlot, seasonPlot, labPlot)
 	fmt.Fprintf(w, "Everything above is invented data. Point the same commands at your own ride folder to analyse your season.\n")
 	return nil
 }

@@ -1,6 +1,9 @@
 package synth
 
-import "math"
+import (
+	"fmt"
+	"math"
+)
 
 // LactateAthlete is invented lactate physiology around a known MLSS: the
 // end-of-step lactate of a step test rises exponentially above the resting
@@ -22,4 +25,25 @@ func (a LactateAthlete) Trial(p float64) (la10, la30 float64) {
 	la10 = a.StepLactate(p)
 	rise := math.Max(0.05, 1+(p-a.MLSSW)/10)
 	return la10, la10 + rise
+}
+
+// StepTestCSV writes a step test of the athlete on date as a lactate
+// analyser's user would: power, lactate to 0.1 mmol/L, heart rate, 4-min
+// steps.
+func (a LactateAthlete) StepTestCSV(date string, powers []float64) string {
+	s := "date,power_w,lactate_mmol,heart_rate,step_min\n"
+	for _, p := range powers {
+		s += fmt.Sprintf("%s,%.0f,%.1f,%.0f,4\n", date, p, a.StepLactate(p), math.Round(95+0.24*p))
+	}
+	return s
+}
+
+// TrialsCSV writes constant-power MLSS trials on the given dates and powers.
+func (a LactateAthlete) TrialsCSV(dates []string, powers []float64) string {
+	s := "date,power_w,lactate_10_mmol,lactate_30_mmol\n"
+	for i, p := range powers {
+		la10, la30 := a.Trial(p)
+		s += fmt.Sprintf("%s,%.0f,%.1f,%.1f\n", dates[i], p, la10, la30)
+	}
+	return s
 }
