@@ -40,7 +40,7 @@ func compareAction(c *cli.Context) error {
 	if err != nil {
 		return usageError{"--methods: " + err.Error()}
 	}
-	lab, labSkipped := readLab(c)
+	lab, labSkipped := readLab(c.StringSlice("lactate"), c.StringSlice("trials"))
 	days, err := powerduration.ParseDays(c.String("window"))
 	if err != nil {
 		return usageError{"--window: " + err.Error()}

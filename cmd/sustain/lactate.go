@@ -155,51 +155,13 @@ func lactateAction(c *cli.Context) error {
 		specs = append(specs, t)
 	}
 	out := lactateOut{Tests: []lactateTestJSON{}, Trials: []lactateTrialJSON{}, Shifts: []lactateShiftJSON{}, Skipped: []ingest.Skipped{}, Caution: estimate.Caution}
-	skip := func(file string, err error) {
-		out.Skipped = append(out.Skipped, ingest.Skipped{File: file, Reason: err.Error()})
-	}
-	var analyses []lactate.Analysis
-	for _, path := range c.Args().Slice() {
-		f, err := os.Open(path)
-		if err != nil {
-			skip(path, fmt.Errorf("cannot be opened (%v)", plainErr(err)))
-			continue
-		}
-		tests, bad, err := lactate.ReadSteps(f, path)
-		f.Close()
-		if err != nil {
-			skip(path, err)
-			continue
-		}
-		for _, b := range bad {
-			skip(path, b)
-		}
-		for _, t := range tests {
-			analyses = append(analyses, lactate.Analyse(t))
-		}
-	}
-	var trials []lactate.Trial
-	for _, path := range c.StringSlice("trials") {
-		f, err := os.Open(path)
-		if err != nil {
-			skip(path, fmt.Errorf("cannot be opened (%v)", plainErr(err)))
-			continue
-		}
-		ts, bad, err := lactate.ReadTrials(f, path)
-		f.Close()
-		if err != nil {
-			skip(path, err)
-			continue
-		}
-		for _, b := range bad {
-			skip(path, b)
-		}
-		trials = append(trials, ts...)
-	}
+	lab, skipped := readLab(c.Args().Slice(), c.StringSlice("trials"))
+	out.Skipped = append(out.Skipped, skipped...)
+	analyses, trials := lab.analyses, lab.trials
 	for _, sp := range specs {
 		t, err := sp.measure(c)
 		if err != nil {
-			skip(sp.file, err)
+			out.Skipped = append(out.Skipped, ingest.Skipped{File: sp.file, Reason: err.Error()})
 			continue
 		}
 		trials = append(trials, t)
@@ -582,37 +544,41 @@ type labTests struct {
 	trials   []lactate.Trial
 }
 
-// readLab reads compare's --lactate and --trials files.
-func readLab(c *cli.Context) (labTests, []ingest.Skipped) {
+// readLab reads step-test and MLSS-trial CSVs, one skipped line for each
+// file or test that cannot be used.
+func readLab(stepFiles, trialFiles []string) (labTests, []ingest.Skipped) {
 	var lab labTests
 	var skipped []ingest.Skipped
-	for _, kind := range []string{"lactate", "trials"} {
-		for _, path := range c.StringSlice(kind) {
-			f, err := os.Open(path)
-			if err != nil {
-				skipped = append(skipped, ingest.Skipped{File: path, Reason: fmt.Sprintf("cannot be opened (%v)", plainErr(err))})
-				continue
-			}
-			var bad []error
-			if kind == "lactate" {
-				var tests []lactate.StepTest
-				tests, bad, err = lactate.ReadSteps(f, path)
-				for _, t := range tests {
-					lab.analyses = append(lab.analyses, lactate.Analyse(t))
-				}
-			} else {
-				var ts []lactate.Trial
-				ts, bad, err = lactate.ReadTrials(f, path)
-				lab.trials = append(lab.trials, ts...)
-			}
-			f.Close()
-			if err != nil {
-				bad = append(bad, err)
-			}
-			for _, b := range bad {
-				skipped = append(skipped, ingest.Skipped{File: path, Reason: b.Error()})
-			}
+	read := func(path string, parse func(f *os.File) ([]error, error)) {
+		f, err := os.Open(path)
+		if err != nil {
+			skipped = append(skipped, ingest.Skipped{File: path, Reason: fmt.Sprintf("cannot be opened (%v)", plainErr(err))})
+			return
 		}
+		defer f.Close()
+		bad, err := parse(f)
+		if err != nil {
+			bad = append(bad, err)
+		}
+		for _, b := range bad {
+			skipped = append(skipped, ingest.Skipped{File: path, Reason: b.Error()})
+		}
+	}
+	for _, path := range stepFiles {
+		read(path, func(f *os.File) ([]error, error) {
+			tests, bad, err := lactate.ReadSteps(f, path)
+			for _, t := range tests {
+				lab.analyses = append(lab.analyses, lactate.Analyse(t))
+			}
+			return bad, err
+		})
+	}
+	for _, path := range trialFiles {
+		read(path, func(f *os.File) ([]error, error) {
+			ts, bad, err := lactate.ReadTrials(f, path)
+			lab.trials = append(lab.trials, ts...)
+			return bad, err
+		})
 	}
 	return lab, skipped
 }
