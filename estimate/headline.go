@@ -49,10 +49,7 @@ func headline(rep Report, ctx gradeContext, choice string) *Threshold {
 	var cands []Fit
 	why := ""
 	for _, f := range rep.Models {
-		if !slices.Contains(headlineModels, f.Model) && f.Model != choice {
-			continue
-		}
-		if choice != "" && f.Model != choice {
+		if (choice == "" && !slices.Contains(headlineModels, f.Model)) || (choice != "" && f.Model != choice) {
 			continue
 		}
 		if r := implausible(&f); r != "" {
