@@ -5,6 +5,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strings"
 	"sync"
 	"testing"
 	"time"
@@ -99,5 +100,37 @@ func TestStoreSurvivesKill(t *testing.T) {
 		if out, err := sustainProcess("inspect", "--store", db, dir).CombinedOutput(); err != nil {
 			t.Fatalf("after a kill at %v: %v\n%s", after, err, out)
 		}
+	}
+}
+
+// --store pointed at a ride file or a ride folder refuses the store in one
+// line, reads the rides without it, and leaves the file and folder as they
+// were.
+func TestStoreNeverTakesUserFiles(t *testing.T) {
+	dir := storeSeason(t, 1)
+	var ride string
+	filepath.WalkDir(dir, func(p string, d os.DirEntry, err error) error {
+		if err == nil && !d.IsDir() && ride == "" {
+			ride = p
+		}
+		return nil
+	})
+	before, _ := os.ReadFile(ride)
+	for _, target := range []string{ride, filepath.Dir(ride)} {
+		list, _ := os.ReadDir(filepath.Dir(target))
+		code, out, errs := runCmd(t, "inspect", dir, "--store", target, "--json")
+		if code != exitOK || !strings.Contains(errs, "not a store of sustain") || strings.Count(strings.TrimSpace(errs), "\n") > 0 {
+			t.Errorf("--store %s: exit %d, stderr %q", target, code, errs)
+		}
+		if !json.Valid([]byte(out)) {
+			t.Errorf("stdout is not the result: %q", out)
+		}
+		after, _ := os.ReadDir(filepath.Dir(target))
+		if len(after) != len(list) {
+			t.Errorf("--store %s changed its folder: %d → %d entries", target, len(list), len(after))
+		}
+	}
+	if now, _ := os.ReadFile(ride); string(now) != string(before) {
+		t.Error("the ride file was changed")
 	}
 }

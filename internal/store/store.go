@@ -7,7 +7,9 @@
 //
 // The database is a cache: a store from an older schema is rebuilt, a
 // damaged one is moved aside and rebuilt, and a store another run holds
-// locked for too long is reported and bypassed. Writes are transactions in
+// locked for too long is reported and bypassed. Only a store of this tool
+// (its header's application id says so) is ever opened, moved or written:
+// anything else at the store's path is refused and left as it is. Writes are transactions in
 // WAL mode, so a run killed mid-write leaves the store as it was before.
 package store
 
@@ -71,10 +73,78 @@ func DefaultPath() (string, error) {
 // another run's transaction.
 func Open(path string) (*Store, error) { return OpenWait(path, 10*time.Second) }
 
-// OpenWait is Open with the longest wait for another run's lock.
+// ApplicationID marks a SQLite file as a store of this tool (SQLite's
+// application_id, in the file's header: readable even when later pages
+// are damaged). It spells "SUST".
+const ApplicationID = 0x53555354
+
+// ErrNotAStore: the path holds something that is not a store of this tool;
+// it is never opened, moved or written.
+var ErrNotAStore = errors.New("not a store of sustain")
+
+// whose tells what is at path: nothing (or an empty file), a store of this
+// tool, or something else (the user's, never touched: an error).
+func whose(path string) (exists bool, err error) {
+	fi, err := os.Stat(path)
+	if os.IsNotExist(err) {
+		return false, nil
+	}
+	if err != nil {
+		return true, err
+	}
+	if !fi.Mode().IsRegular() {
+		return true, fmt.Errorf("store %s is a folder or a special file: %w; name a new file with --store", path, ErrNotAStore)
+	}
+	if fi.Size() == 0 {
+		return false, nil
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return true, err
+	}
+	defer f.Close()
+	head := make([]byte, 100)
+	n, _ := f.Read(head)
+	if n < 100 || string(head[:16]) != "SQLite format 3\x00" {
+		return true, fmt.Errorf("store %s is a file of another kind: %w; name a new file with --store", path, ErrNotAStore)
+	}
+	if binary.BigEndian.Uint32(head[68:72]) == ApplicationID {
+		return true, nil
+	}
+	// a store of the first schema, before the application id: its meta row
+	db, err := sql.Open("sqlite", "file:"+path+"?mode=ro")
+	if err == nil {
+		defer db.Close()
+		var v string
+		if db.QueryRow(`SELECT value FROM meta WHERE key = 'schema_version'`).Scan(&v) == nil {
+			var n int
+			if db.QueryRow(`SELECT count(*) FROM sqlite_master WHERE name IN ('files', 'results', 'rides')`).Scan(&n) == nil && n == 3 {
+				return true, nil
+			}
+		}
+	}
+	return true, fmt.Errorf("store %s is another program's database: %w; name a new file with --store", path, ErrNotAStore)
+}
+
+// damage reports whether an error from opening a store says its file is
+// damaged (and not, say, unreadable or in a read-only folder).
+func damage(err error) bool {
+	m := strings.ToLower(err.Error())
+	return strings.Contains(m, "malformed") || strings.Contains(m, "not a database") || strings.Contains(m, "corrupt")
+}
+
+// OpenWait is Open with the longest wait for another run's lock. Only a
+// store of this tool is opened; only one found damaged is moved aside and
+// rebuilt; anything else at path is refused, untouched.
 func OpenWait(path string, wait time.Duration) (*Store, error) {
-	if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
-		return nil, fmt.Errorf("store %s: %w", path, err)
+	exists, err := whose(path)
+	if err != nil {
+		return nil, err
+	}
+	if !exists {
+		if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
+			return nil, fmt.Errorf("store %s: %w", path, err)
+		}
 	}
 	s, err := open(path, wait)
 	if err == nil {
@@ -83,7 +153,10 @@ func OpenWait(path string, wait time.Duration) (*Store, error) {
 	if errors.Is(err, errLocked) {
 		return nil, fmt.Errorf("store %s is locked by another run: %w", path, err)
 	}
-	// damaged or not a database: move it aside and start afresh
+	if !damage(err) {
+		return nil, fmt.Errorf("store %s cannot be used (%v)", path, err)
+	}
+	// damaged: move it aside and start afresh
 	aside := fmt.Sprintf("%s.damaged-%s", path, time.Now().UTC().Format("20060102T150405"))
 	if rerr := os.Rename(path, aside); rerr != nil && !os.IsNotExist(rerr) {
 		return nil, fmt.Errorf("store %s is damaged (%v) and could not be moved aside: %w", path, err, rerr)
@@ -125,11 +198,15 @@ func (s *Store) init() error {
 	if _, err := s.db.Exec(schema); err != nil {
 		return err
 	}
+	if _, err := s.db.Exec(fmt.Sprintf(`PRAGMA application_id = %d`, ApplicationID)); err != nil {
+		return err
+	}
 	var v string
 	err := s.db.QueryRow(`SELECT value FROM meta WHERE key = 'schema_version'`).Scan(&v)
 	switch {
 	case err == sql.ErrNoRows:
-		_, err = s.db.Exec(`INSERT INTO meta (key, value) VALUES ('schema_version', ?)`, fmt.Sprint(SchemaVersion))
+		// several first runs at once: the first one's row stands
+		_, err = s.db.Exec(`INSERT OR IGNORE INTO meta (key, value) VALUES ('schema_version', ?)`, fmt.Sprint(SchemaVersion))
 		return err
 	case err != nil:
 		return err

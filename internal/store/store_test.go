@@ -1,6 +1,8 @@
 package store
 
 import (
+	"database/sql"
+	"errors"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -125,15 +127,31 @@ func TestRescanDecodesOnlyWhatChanged(t *testing.T) {
 // emptied.
 func TestDamagedAndOldStores(t *testing.T) {
 	path := filepath.Join(t.TempDir(), "rides.db")
-	os.WriteFile(path, []byte(strings.Repeat("this is not a database ", 500)), 0o644)
 	s, err := Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := season(t, 1)
+	if _, _, _, err := s.Scan([]string{dir}, ingest.Options{}); err != nil {
+		t.Fatal(err)
+	}
+	s.Close()
+	// damage the store's pages after its header: it is ours (the header's
+	// application id says so), so it is moved aside and rebuilt
+	b, _ := os.ReadFile(path)
+	for i := 100; i < len(b); i++ {
+		b[i] = 0xA5
+	}
+	os.WriteFile(path, b, 0o644)
+	os.Remove(path + "-wal")
+	os.Remove(path + "-shm")
+	s, err = Open(path)
 	if err != nil {
 		t.Fatal(err)
 	}
 	if len(s.Notes) != 1 || !strings.Contains(s.Notes[0], "damaged") {
 		t.Errorf("notes %v", s.Notes)
 	}
-	dir := season(t, 1)
 	if _, _, _, err := s.Scan([]string{dir}, ingest.Options{}); err != nil {
 		t.Fatal(err)
 	}
@@ -153,6 +171,50 @@ func TestDamagedAndOldStores(t *testing.T) {
 	aside, _ := filepath.Glob(path + ".damaged-*")
 	if len(aside) != 1 {
 		t.Errorf("damaged store not kept aside: %v", aside)
+	}
+}
+
+// What is not a store of this tool is refused and left exactly as it was:
+// a ride file, a folder, a text file, another program's database.
+func TestNotAStoreIsNeverTouched(t *testing.T) {
+	dir := t.TempDir()
+	ride := season(t, 1)
+	entries, _ := os.ReadDir(ride)
+	rideFile := filepath.Join(ride, entries[0].Name())
+	text := filepath.Join(dir, "notes.txt")
+	os.WriteFile(text, []byte(strings.Repeat("this is not a database ", 500)), 0o644)
+	other := filepath.Join(dir, "other.db")
+	db, err := sql.Open("sqlite", "file:"+other)
+	if err != nil {
+		t.Fatal(err)
+	}
+	db.Exec(`CREATE TABLE meta (key TEXT, value TEXT)`)
+	db.Exec(`INSERT INTO meta VALUES ('schema_version', '1')`)
+	db.Close()
+	for _, p := range []string{rideFile, ride, text, other} {
+		before, _ := os.ReadDir(filepath.Dir(p))
+		var content []byte
+		if fi, _ := os.Stat(p); fi.Mode().IsRegular() {
+			content, _ = os.ReadFile(p)
+		}
+		s, err := Open(p)
+		if err == nil {
+			s.Close()
+			t.Errorf("%s opened as a store", p)
+			continue
+		}
+		if !errors.Is(err, ErrNotAStore) || strings.Count(err.Error(), "\n") > 0 {
+			t.Errorf("%s: %v", p, err)
+		}
+		after, _ := os.ReadDir(filepath.Dir(p))
+		if len(after) != len(before) {
+			t.Errorf("%s: the folder changed (%d → %d entries)", p, len(before), len(after))
+		}
+		if content != nil {
+			if now, _ := os.ReadFile(p); string(now) != string(content) {
+				t.Errorf("%s was changed", p)
+			}
+		}
 	}
 }
 
