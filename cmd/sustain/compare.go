@@ -25,6 +25,7 @@ func compareCommand() *cli.Command {
 		&cli.StringFlag{Name: "window", Value: "90d", Usage: "each athlete's window, ending at their newest ride; for one athlete, the length of each of the consecutive windows compared"},
 		&cli.BoolFlag{Name: "csv", Usage: "print each subject's estimate by each method as CSV rows"},
 		&cli.StringFlag{Name: "plot", Usage: "Bland–Altman plots (difference against mean) of the first method against each other, to FILE.png or FILE.svg"},
+		forceFlag(),
 	)
 	return &cli.Command{
 		Name:      "compare",

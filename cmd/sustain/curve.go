@@ -64,6 +64,7 @@ func curveCommand() *cli.Command {
 		&cli.BoolFlag{Name: "reduce", Usage: "read the paths as files of --per-ride lines instead of ride files (the reduce step)"},
 		&cli.Float64Flag{Name: "mass", Usage: "rider mass in kg, to add W/kg"},
 		&cli.StringFlag{Name: "plot", Usage: "write the curve to FILE.png or FILE.svg"},
+		forceFlag(),
 		&cli.StringFlag{Name: "compare-from", Usage: "first date of a second window to compare with (before/after a block)"},
 		&cli.StringFlag{Name: "compare-to", Usage: "last date of the compared window"},
 	)
@@ -232,7 +233,7 @@ func orOpen(d string) string {
 }
 
 // checkMassAndPlot checks --mass (above 0 kg when given) and --plot (a
-// .png or .svg name).
+// new .png or .svg file, outside the folders read).
 func checkMassAndPlot(c *cli.Context) error {
 	if c.IsSet("mass") && !(c.Float64("mass") > 0) {
 		return usageError{"--mass must be above 0 kg"}
@@ -240,7 +241,7 @@ func checkMassAndPlot(c *cli.Context) error {
 	if p := c.String("plot"); p != "" && !isPlotName(p) {
 		return usageError{"--plot takes a file name ending in .png or .svg"}
 	}
-	return nil
+	return checkNewFile(c, "plot", c.String("plot"), c.Args().Slice())
 }
 
 func isPlotName(p string) bool {

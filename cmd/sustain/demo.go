@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"time"
 
@@ -25,7 +26,8 @@ func demoCommand() *cli.Command {
 		Name:  "demo",
 		Usage: "write an invented season of rides and lactate tests to a folder and run inspect, curve, estimate, season and lactate on it",
 		Flags: []cli.Flag{
-			&cli.StringFlag{Name: "out", Usage: "folder for the invented rides and the plots (default: a new temporary folder)"},
+			&cli.StringFlag{Name: "out", Usage: "folder for the invented rides and the plots (default: a new temporary folder); a folder that holds anything is refused unless --force"},
+			&cli.BoolFlag{Name: "force", Usage: "write into --out even when it holds files (the demo's own files are replaced)"},
 		},
 		Action: demoAction,
 	}
@@ -39,8 +41,15 @@ func demoAction(c *cli.Context) error {
 			return err
 		}
 		dir = d
-	} else if err := os.MkdirAll(dir, 0o755); err != nil {
-		return err
+	} else {
+		if es, err := os.ReadDir(dir); err == nil && len(es) > 0 && !c.Bool("force") {
+			return usageError{fmt.Sprintf("--out %s holds files already: name a new or empty folder, or --force to write the demo's files into it", dir)}
+		} else if fi, err := os.Lstat(dir); err == nil && !fi.IsDir() {
+			return usageError{fmt.Sprintf("--out %s is not a folder", dir)}
+		}
+		if err := os.MkdirAll(dir, 0o755); err != nil {
+			return err
+		}
 	}
 	start := time.Date(2026, 3, 2, 0, 0, 0, 0, time.UTC)
 	files := synth.Season("rides", start, demoWeeks, synth.Block(demoAthlete, demoCPGainW, demoWLossJ), 7)
@@ -80,6 +89,9 @@ func demoAction(c *cli.Context) error {
 		{"lactate", stepsCSV, "--trials", trialsCSV, "--rides", rides, "--plot", labPlot},
 	}
 	for _, args := range steps {
+		if c.Bool("force") && slices.Contains(args, "--plot") {
+			args = append(args, "--force") // the plots of an earlier demo in the same folder
+		}
 		fmt.Fprintf(w, "\n$ sustain %s\n", strings.Join(args, " "))
 		app := newApp(w, c.App.ErrWriter)
 		if err := app.Run(interspersed(app, append([]string{"sustain"}, args...))); err != nil {

@@ -78,6 +78,7 @@ func estimateCommand() *cli.Command {
 	flags = append(flags,
 		&cli.Float64Flag{Name: "mass", Usage: "rider mass in kg, to add W/kg"},
 		&cli.StringFlag{Name: "plot", Usage: "write the curve, each model's fit and the efforts used to FILE.png or FILE.svg"},
+		forceFlag(),
 	)
 	return &cli.Command{
 		Name:      "estimate",

@@ -17,7 +17,8 @@ func exportCommand() *cli.Command {
 	flags := append(ingestFlags(), estimateFlags()...)
 	flags = append(flags,
 		&cli.StringFlag{Name: "format", Value: "sqlite", Usage: "sqlite (one database file), csv or jsonl (a folder of one file per table)"},
-		&cli.StringFlag{Name: "out", Usage: "the database file (sqlite) or folder (csv, jsonl) to write; never a file that exists", Required: true},
+		&cli.StringFlag{Name: "out", Usage: "the database file (sqlite) or folder (csv, jsonl) to write; never a file that exists unless --force, never inside a folder being read", Required: true},
+		forceFlag(),
 		&cli.StringFlag{Name: "window", Value: "42d", Usage: "length of the rolling windows of the estimates table"},
 		&cli.StringFlag{Name: "step", Value: "7d", Usage: "distance between the ends of those windows"},
 	)
@@ -60,6 +61,21 @@ func exportAction(c *cli.Context) error {
 	}
 	if c.NArg() == 0 {
 		return usageError{"name at least one ride file or folder"}
+	}
+	out := c.String("out")
+	if format == "sqlite" {
+		if err := checkNewFile(c, "out", out, c.Args().Slice()); err != nil {
+			return err
+		}
+	} else {
+		if in := inside(filepath.Join(out, "x"), c.Args().Slice()); in != "" {
+			return usageError{fmt.Sprintf("--out %s is inside %s, which is being read: write it elsewhere", out, in)}
+		}
+		for _, t := range []string{"rides", "curve_points", "estimates"} {
+			if err := checkNewFile(c, "out", filepath.Join(out, t+"."+format), nil); err != nil {
+				return err
+			}
+		}
 	}
 	groups := map[string][]string{"": c.Args().Slice()}
 	order := []string{""}
@@ -105,7 +121,7 @@ func exportAction(c *cli.Context) error {
 			}
 		}
 	}
-	if err := export.Write(format, c.String("out"), []export.Table{rides, points, ests}); err != nil {
+	if err := export.Write(format, out, []export.Table{rides, points, ests}, c.Bool("force")); err != nil {
 		return fmt.Errorf("export to %s: %w", c.String("out"), err)
 	}
 	w := c.App.Writer

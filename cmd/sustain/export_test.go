@@ -5,6 +5,7 @@ import (
 	"encoding/csv"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 )
 
@@ -57,5 +58,60 @@ func TestExportFormats(t *testing.T) {
 	}
 	if code, _, _ := runCmd(t, "export", dir, "--format", "xml", "--out", filepath.Join(out, "x")); code != exitUsage {
 		t.Errorf("bad format: exit %d", code)
+	}
+}
+
+// Nothing the user owns is overwritten, written through a link, or written
+// into a folder being read, unless told to (--force; never a link).
+func TestOutputsNeverOverwrite(t *testing.T) {
+	dir := seasonFolder(t, athlete, 2, true)
+	out := t.TempDir()
+	mine := filepath.Join(out, "rides.csv")
+	os.WriteFile(mine, []byte("my own notes"), 0o644)
+	if code, _, errs := runCmd(t, "export", dir, "--format", "csv", "--out", out); code != exitUsage || !strings.Contains(errs, "exists") {
+		t.Errorf("export over rides.csv: exit %d, %s", code, errs)
+	}
+	if b, _ := os.ReadFile(mine); string(b) != "my own notes" {
+		t.Error("rides.csv was overwritten")
+	}
+	if code, _, _ := runCmd(t, "export", dir, "--format", "csv", "--out", out, "--force"); code != exitOK {
+		t.Errorf("--force: exit %d", code)
+	}
+	link := filepath.Join(t.TempDir(), "season.db")
+	os.Symlink(filepath.Join(t.TempDir(), "nowhere", "x.db"), link)
+	if code, _, _ := runCmd(t, "export", dir, "--format", "sqlite", "--out", link, "--force"); code != exitUsage {
+		t.Errorf("export through a dangling link: exit %d", code)
+	}
+	inDir := filepath.Join(dir, "r", "export.db")
+	if code, _, errs := runCmd(t, "export", dir, "--format", "sqlite", "--out", inDir); code != exitUsage || !strings.Contains(errs, "being read") {
+		t.Errorf("export into the folder read: exit %d, %s", code, errs)
+	}
+	plot := filepath.Join(out, "fit.png")
+	os.WriteFile(plot, []byte("a picture of mine"), 0o644)
+	if code, _, errs := runCmd(t, "estimate", dir, "--plot", plot); code != exitUsage || !strings.Contains(errs, "exists") {
+		t.Errorf("plot over a file: exit %d, %s", code, errs)
+	}
+	if b, _ := os.ReadFile(plot); string(b) != "a picture of mine" {
+		t.Error("the plot overwrote a file")
+	}
+	if code, _, _ := runCmd(t, "demo", "--out", dir); code != exitUsage {
+		t.Errorf("demo into a folder of rides: exit %d", code)
+	}
+}
+
+// A text cell a spreadsheet would run as a formula is neutralised.
+func TestCSVCellsAreNotFormulas(t *testing.T) {
+	squad := t.TempDir()
+	for _, name := range []string{"=HYPERLINK(1)", "ben"} {
+		src := seasonFolder(t, athlete, 1, true)
+		os.Rename(filepath.Join(src, "r"), filepath.Join(squad, name))
+	}
+	out := filepath.Join(t.TempDir(), "x")
+	if code, _, errs := runCmd(t, "export", squad, "--format", "csv", "--out", out); code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	b, _ := os.ReadFile(filepath.Join(out, "rides.csv"))
+	if strings.Contains(string(b), "\n=HYPERLINK") || !strings.Contains(string(b), "\n'=HYPERLINK(1),") {
+		t.Errorf("rides.csv:\n%.300s", b)
 	}
 }

@@ -25,6 +25,7 @@ func lactateCommand() *cli.Command {
 		&cli.StringSliceFlag{Name: "rides", Usage: "ride files or folders of the same athlete: the field CP and 20-min rule of the days around each test go beside the lactate thresholds; repeat for more"},
 		&cli.BoolFlag{Name: "csv", Usage: "one CSV row per test and method"},
 		&cli.StringFlag{Name: "plot", Usage: "write lactate against power with each method's threshold to FILE.png or FILE.svg"},
+		forceFlag(),
 	)
 	return &cli.Command{
 		Name:      "lactate",
@@ -145,6 +146,9 @@ func lactateAction(c *cli.Context) error {
 	}
 	if p := c.String("plot"); p != "" && !isPlotName(p) {
 		return usageError{fmt.Sprintf("--plot %s: name a .png or .svg file", p)}
+	}
+	if err := checkNewFile(c, "plot", c.String("plot"), c.StringSlice("rides")); err != nil {
+		return err
 	}
 	var specs []trialSpec
 	for _, s := range c.StringSlice("trial") {

@@ -21,6 +21,7 @@ func seasonCommand() *cli.Command {
 		&cli.StringFlag{Name: "components", Value: estimate.ModelCP2, Usage: "model whose CP and W′ (and Pmax, for morton3 and omni) are followed: cp2, omni or morton3"},
 		&cli.StringFlag{Name: "athlete", Usage: "in a folder of athletes (one subfolder each), show this athlete's season"},
 		&cli.StringFlag{Name: "plot", Usage: "write CP, W′ and Pmax over the season to FILE.png or FILE.svg"},
+		forceFlag(),
 	)
 	return &cli.Command{
 		Name:      "season",

@@ -35,11 +35,12 @@ var Formats = []string{"sqlite", "csv", "jsonl"}
 
 // Write writes tables in format to out: a new database file for sqlite, a
 // folder (created) of NAME.csv or NAME.jsonl files otherwise. It never
-// overwrites an existing database file.
-func Write(format, out string, tables []Table) error {
+// overwrites a file that exists unless force, and never writes through a
+// link (see Create).
+func Write(format, out string, tables []Table, force bool) error {
 	switch format {
 	case "sqlite":
-		return writeSQLite(out, tables)
+		return writeSQLite(out, tables, force)
 	case "csv", "jsonl":
 		if err := os.MkdirAll(out, 0o755); err != nil {
 			return err
@@ -47,9 +48,9 @@ func Write(format, out string, tables []Table) error {
 		for _, t := range tables {
 			var err error
 			if format == "csv" {
-				err = writeCSV(filepath.Join(out, t.Name+".csv"), t)
+				err = writeCSV(filepath.Join(out, t.Name+".csv"), t, force)
 			} else {
-				err = writeJSONL(filepath.Join(out, t.Name+".jsonl"), t)
+				err = writeJSONL(filepath.Join(out, t.Name+".jsonl"), t, force)
 			}
 			if err != nil {
 				return err
@@ -75,10 +76,32 @@ func value(v any) any {
 	return v
 }
 
-func writeSQLite(path string, tables []Table) error {
-	if _, err := os.Stat(path); err == nil {
-		return fmt.Errorf("%s exists; name a new file", path)
+// Create creates path for writing: a new file, or with force a file that
+// replaces an existing regular file. A link (even a dangling one) or
+// anything but a regular file is never written through or replaced.
+func Create(path string, force bool) (*os.File, error) {
+	if fi, err := os.Lstat(path); err == nil {
+		switch {
+		case fi.Mode()&os.ModeSymlink != 0:
+			return nil, fmt.Errorf("%s is a link; name a new file", path)
+		case !fi.Mode().IsRegular():
+			return nil, fmt.Errorf("%s is not a file; name a new file", path)
+		case !force:
+			return nil, fmt.Errorf("%s exists; name a new file (or --force to replace it)", path)
+		}
+		if err := os.Remove(path); err != nil {
+			return nil, err
+		}
 	}
+	return os.OpenFile(path, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
+}
+
+func writeSQLite(path string, tables []Table, force bool) error {
+	f, err := Create(path, force) // claims the name; SQLite writes into it
+	if err != nil {
+		return err
+	}
+	f.Close()
 	db, err := sql.Open("sqlite", "file:"+path)
 	if err != nil {
 		return err
@@ -117,8 +140,20 @@ func writeSQLite(path string, tables []Table) error {
 	return tx.Commit()
 }
 
-func writeCSV(path string, t Table) error {
-	f, err := os.Create(path)
+// cell neutralises a text cell a spreadsheet would run as a formula (it
+// starts with =, +, - or @) by a leading apostrophe; numbers are written
+// as numbers.
+func cell(s string) string {
+	if s != "" && strings.ContainsRune("=+-@", rune(s[0])) {
+		if _, err := strconv.ParseFloat(s, 64); err != nil {
+			return "'" + s
+		}
+	}
+	return s
+}
+
+func writeCSV(path string, t Table, force bool) error {
+	f, err := Create(path, force)
 	if err != nil {
 		return err
 	}
@@ -136,6 +171,8 @@ func writeCSV(path string, t Table) error {
 				rec[i] = ""
 			case float64:
 				rec[i] = strconv.FormatFloat(x, 'f', -1, 64)
+			case string:
+				rec[i] = cell(x)
 			default:
 				rec[i] = fmt.Sprint(x)
 			}
@@ -146,8 +183,8 @@ func writeCSV(path string, t Table) error {
 	return errors.Join(w.Error(), f.Close())
 }
 
-func writeJSONL(path string, t Table) error {
-	f, err := os.Create(path)
+func writeJSONL(path string, t Table, force bool) error {
+	f, err := Create(path, force)
 	if err != nil {
 		return err
 	}
