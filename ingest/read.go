@@ -4,6 +4,8 @@ import (
 	"bufio"
 	"bytes"
 	"compress/gzip"
+	"crypto/sha256"
+	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
@@ -83,9 +85,9 @@ func (c *capReader) Read(p []byte) (int, error) {
 
 // ReadFile reads every ride in the file at path. Errors are *FileError.
 func ReadFile(path string, opts Options) ([]Ride, error) {
-	f, err := os.Open(path)
+	f, err := openRegular(path)
 	if err != nil {
-		return nil, &FileError{path, unwrapPathError(err)}
+		return nil, &FileError{path, err}
 	}
 	defer f.Close()
 	fallback := startFromName(path)
@@ -265,31 +267,39 @@ func sportAccepted(sport string, opts Options) bool {
 	return opts.AnySport || sport == "cycling" || sport == "unknown"
 }
 
-// ReadBytesOf reads a whole file, within the same 1-GiB bound as ReadFile;
-// an error is the reason alone (the caller names the file).
-func ReadBytesOf(path string) ([]byte, error) {
+// HashFile is the SHA-256 of a file's bytes, read as a stream within the
+// same 1-GiB bound as ReadFile (never held in memory); an error is the
+// reason alone (the caller names the file).
+func HashFile(path string) (string, error) {
+	f, err := openRegular(path)
+	if err != nil {
+		return "", err
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, &capReader{f, maxFileBytes}); err != nil {
+		if errors.Is(err, errTooLarge) {
+			return "", errors.New("file is larger than 1 GiB: not a ride file")
+		}
+		return "", unwrapPathError(err)
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// openRegular opens a regular file; a pipe, device or socket is refused
+// before it is opened (opening a pipe waits for a writer forever).
+func openRegular(path string) (*os.File, error) {
+	st, err := os.Stat(path)
+	if err != nil {
+		return nil, unwrapPathError(err)
+	}
+	if !st.Mode().IsRegular() {
+		return nil, errors.New("not a regular file (a pipe, device or socket): not read")
+	}
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, unwrapPathError(err)
 	}
-	defer f.Close()
-	b, err := io.ReadAll(&capReader{f, maxFileBytes})
-	if errors.Is(err, errTooLarge) {
-		return nil, errors.New("file is larger than 1 GiB")
-	}
-	return b, err
+	return f, nil
 }
 
-// ReadBytes decodes the rides of a file already in memory (for callers that
-// also hash it). Like ReadFile, a CSV of elapsed seconds is dated by a date
-// in the file's name, else by fallbackStart. Errors are *FileError.
-func ReadBytes(data []byte, name string, fallbackStart time.Time, opts Options) ([]Ride, error) {
-	if fb := startFromName(name); !fb.IsZero() {
-		fallbackStart = fb
-	}
-	rides, err := Read(bytes.NewReader(data), name, fallbackStart, opts)
-	if err != nil {
-		return nil, &FileError{name, err}
-	}
-	return rides, nil
-}

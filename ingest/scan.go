@@ -114,6 +114,24 @@ func RideBefore(ra, rb *Ride) bool {
 	return ra.Session < rb.Session
 }
 
+// pathReason says in a rider's words why a path cannot be reached.
+func pathReason(p string, err error) string {
+	switch {
+	case os.IsNotExist(err):
+		if fi, lerr := os.Lstat(p); lerr == nil && fi.Mode()&os.ModeSymlink != 0 {
+			return "a link to something that does not exist"
+		}
+		return "no such file or folder"
+	case os.IsPermission(err):
+		return "permission denied"
+	case errors.Is(err, syscall.ENAMETOOLONG):
+		return "the path is too long to open"
+	case errors.Is(err, syscall.ELOOP):
+		return "a loop of links"
+	}
+	return unwrapPathError(err).Error()
+}
+
 func reasonOf(err error) string {
 	var fe *FileError
 	if errors.As(err, &fe) {
@@ -138,10 +156,15 @@ func ListFiles(paths []string) ([]string, []Skipped) {
 	for _, p := range paths {
 		st, err := os.Stat(p)
 		if err != nil {
-			skipped = append(skipped, Skipped{p, unwrapPathError(err).Error()})
+			skipped = append(skipped, Skipped{p, pathReason(p, err)})
 			continue
 		}
 		if !st.IsDir() {
+			if !st.Mode().IsRegular() {
+				// a pipe or a device would hang the run or never end
+				skipped = append(skipped, Skipped{p, "not a regular file (a pipe, device or socket): not read"})
+				continue
+			}
 			add(p)
 			continue
 		}
@@ -182,12 +205,19 @@ func walk(dir string, st os.FileInfo, visited map[fileKey]bool, add func(string)
 		p := filepath.Join(dir, e.Name())
 		est, err := os.Stat(p) // follows links
 		if err != nil {
-			continue // dangling link
+			if IsRideName(e.Name()) || e.Type()&os.ModeSymlink != 0 {
+				*skipped = append(*skipped, Skipped{p, pathReason(p, err)})
+			}
+			continue
 		}
-		if est.IsDir() {
+		switch {
+		case est.IsDir():
 			walk(p, est, visited, add, skipped)
-		} else if est.Mode().IsRegular() && IsRideName(e.Name()) {
+		case !IsRideName(e.Name()):
+		case est.Mode().IsRegular():
 			add(p)
+		default:
+			*skipped = append(*skipped, Skipped{p, "not a regular file (a pipe, device or socket): not read"})
 		}
 	}
 }

@@ -14,10 +14,8 @@
 package store
 
 import (
-	"crypto/sha256"
 	"database/sql"
 	"encoding/binary"
-	"encoding/hex"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -436,32 +434,21 @@ func (s *Store) resolve(e *entry, key string, opts ingest.Options) error {
 	if e.loaded {
 		return e.unpack(s, key)
 	}
-	var data []byte
 	if e.hash == "" {
-		b, err := ingest.ReadBytesOf(e.path)
+		// hashed as a stream: a file is never held whole in memory
+		h, err := ingest.HashFile(e.path)
 		if err != nil {
 			e.reason = err.Error()
 			return nil
 		}
-		data = b
-		sum := sha256.Sum256(b)
-		e.hash = hex.EncodeToString(sum[:])
+		e.hash = h
 	}
 	found, err := s.load(e, key)
 	if err != nil || found {
 		return err
 	}
-	if data == nil {
-		b, err := ingest.ReadBytesOf(e.path)
-		if err != nil {
-			e.reason = err.Error()
-			return nil
-		}
-		data = b
-	}
 	e.fresh = true
-	fallback := time.Unix(0, e.mtime)
-	rides, err := ingest.ReadBytes(data, e.path, fallback, opts)
+	rides, err := ingest.ReadFile(e.path, opts)
 	if err != nil {
 		var fe *ingest.FileError
 		if errors.As(err, &fe) {
