@@ -302,4 +302,3 @@ func openRegular(path string) (*os.File, error) {
 	}
 	return f, nil
 }
-
