@@ -35,6 +35,14 @@ const (
 	// SuspectMarginS: seconds on each side of a removed spike that are
 	// not used inside a maximal effort (the meter misbehaved there).
 	SuspectMarginS = 2
+	// MaxSamples bounds the samples of one file: a 48-h timeline at a few
+	// samples a second. Past it a file is no ride recording, and refusing
+	// it keeps memory per file bounded (about 32 bytes a sample).
+	MaxSamples = 1 << 20
+	// EarliestUnixS and LatestUnixS bound the times of a ride (1990 to
+	// 2100); a time outside is a clock or file error, not a ride.
+	EarliestUnixS = 631152000
+	LatestUnixS   = 4102444800
 	// PolicyVersion changes whenever the cleaning policy changes, so that
 	// stored results computed under an older policy can be recognised.
 	PolicyVersion = 2
@@ -78,10 +86,22 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 	if len(samples) == 0 {
 		return Ride{}, errors.New("no samples")
 	}
-	origin := math.Floor(first)
-	if last-origin >= MaxTimelineS {
-		return Ride{}, fmt.Errorf("timeline of %.0f h is longer than 48 h (clock jump?)", (last-origin)/3600)
+	if last-math.Floor(first) >= MaxTimelineS {
+		// a few records dated far from the rest (a clock error) cost
+		// themselves, not the ride
+		kept, dropped := mainStretch(samples)
+		if 20*dropped > len(samples) {
+			return Ride{}, fmt.Errorf("timeline of %.0f h is longer than 48 h (clock jump?)", (last-math.Floor(first))/3600)
+		}
+		samples = kept
+		q.Samples, q.TimeOutliers = len(kept), dropped
+		q.Notes = append(q.Notes, fmt.Sprintf("%d sample(s) dated far from the rest of the ride (a clock error) were dropped", dropped))
+		first, last = math.Inf(1), math.Inf(-1)
+		for _, s := range samples {
+			first, last = min(first, s.UnixS), max(last, s.UnixS)
+		}
 	}
+	origin := math.Floor(first)
 	n := int(math.Floor(last-origin)) + 1
 
 	// Power is averaged per second (rule 2); heart rate and cadence, which
@@ -127,6 +147,9 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 	valid -= removeRelativeSpikes(power, count, &q)
 	if valid == 0 {
 		return Ride{}, ErrNoPower
+	}
+	if first < EarliestUnixS || last > LatestUnixS {
+		return Ride{}, fmt.Errorf("times outside 1990–2100 (%s to %s): a clock or file error, not a ride", unixDate(first), unixDate(last))
 	}
 	q.Seconds = n
 	q.PowerCoverage = float64(valid) / float64(n)
@@ -281,4 +304,38 @@ func recordingInterval(samples []Sample) float64 {
 		}
 	}
 	return 0
+}
+
+// unixDate writes a time for a reason, even far outside the calendar.
+func unixDate(s float64) string {
+	if s < -62135596800 || s > 253402300799 { // outside years 1 to 9999
+		return fmt.Sprintf("%.3g s", s)
+	}
+	return time.Unix(int64(s), 0).UTC().Format("2006-01-02")
+}
+
+// mainStretch keeps the samples of the 48-h stretch that holds the most of
+// them (in their order) and says how many it dropped.
+func mainStretch(samples []Sample) ([]Sample, int) {
+	ts := make([]float64, len(samples))
+	for i, s := range samples {
+		ts[i] = s.UnixS
+	}
+	slices.Sort(ts)
+	bestLo, bestN := ts[0], 0
+	for i, j := 0, 0; i < len(ts); i++ {
+		for ts[i]-ts[j] >= MaxTimelineS-1 {
+			j++
+		}
+		if n := i - j + 1; n > bestN {
+			bestLo, bestN = ts[j], n
+		}
+	}
+	kept := make([]Sample, 0, bestN)
+	for _, s := range samples {
+		if s.UnixS >= bestLo && s.UnixS-math.Floor(bestLo) < MaxTimelineS-1 {
+			kept = append(kept, s)
+		}
+	}
+	return kept, len(samples) - len(kept)
 }

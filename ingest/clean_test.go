@@ -125,6 +125,14 @@ func TestCleanRules(t *testing.T) {
 					t.Errorf("stuck %v", q.StuckRuns)
 				}
 			}},
+		{"one sample dated 10 days after a ride is dropped, the ride kept and flagged",
+			append(stuck(0, 40, 200), pt{864000, 300}),
+			repeat(200, 40),
+			func(t *testing.T, q Quality) {
+				if q.TimeOutliers != 1 || q.Samples != 40 || len(q.Notes) != 1 {
+					t.Errorf("outliers %d, samples %d, notes %v", q.TimeOutliers, q.Samples, q.Notes)
+				}
+			}},
 		{"time going backwards lands in its own bin and is counted",
 			[]pt{{0, 100}, {2, 300}, {1, 200}},
 			[]float64{100, 200, 300},
@@ -169,7 +177,7 @@ func TestCleanRules(t *testing.T) {
 }
 
 func TestCleanSpikeCeilingOption(t *testing.T) {
-	s := []Sample{{UnixS: 0, Power: 1200}, {UnixS: 1, Power: 900}}
+	s := []Sample{{UnixS: 1.7e9, Power: 1200}, {UnixS: 1.7e9 + 1, Power: 900}}
 	r, err := Clean(s, 1000, nil)
 	if err != nil {
 		t.Fatal(err)

@@ -2,7 +2,6 @@ package ingest
 
 import (
 	"bufio"
-	"encoding/csv"
 	"errors"
 	"fmt"
 	"io"
@@ -21,39 +20,111 @@ var (
 	csvCadenceNames = []string{"cadence", "cad", "rpm", "cadence_rpm"}
 )
 
+// Bounds of a CSV ride: a line longer than MaxCSVLineBytes is no row of a
+// ride (one line of commas would otherwise fill memory); see also
+// MaxSamples.
+const MaxCSVLineBytes = 64 << 10
+
+// csvLines splits on \n, \r\n or a lone \r (old spreadsheet exports), with
+// lines bounded by MaxCSVLineBytes (bufio.ErrTooLong past it).
+func csvLines(data []byte, atEOF bool) (advance int, token []byte, err error) {
+	for i, c := range data {
+		switch c {
+		case '\n':
+			return i + 1, data[:i], nil
+		case '\r':
+			if i+1 < len(data) {
+				if data[i+1] == '\n' {
+					return i + 2, data[:i], nil
+				}
+				return i + 1, data[:i], nil
+			}
+			if atEOF {
+				return i + 1, data[:i], nil
+			}
+			return 0, nil, nil // a \n may follow
+		}
+	}
+	if atEOF && len(data) > 0 {
+		return len(data), data, nil
+	}
+	return 0, nil, nil
+}
+
+// splitCSV splits one line into fields: quoted fields ("a, b" with ""
+// for a quote) are honoured within the line; a quote that never closes is
+// taken literally, so one stray quote costs at most its own row.
+func splitCSV(line string, delim byte) []string {
+	var out []string
+	for {
+		if strings.HasPrefix(line, "\"") {
+			var b strings.Builder
+			i, closed := 1, false
+			for i < len(line) {
+				if line[i] == '"' {
+					if i+1 < len(line) && line[i+1] == '"' {
+						b.WriteByte('"')
+						i += 2
+						continue
+					}
+					closed = true
+					i++
+					break
+				}
+				b.WriteByte(line[i])
+				i++
+			}
+			if closed {
+				rest := line[i:]
+				if k := strings.IndexByte(rest, delim); k >= 0 {
+					out = append(out, b.String()+rest[:k])
+					line = rest[k+1:]
+					continue
+				}
+				return append(out, b.String()+rest)
+			}
+		}
+		k := strings.IndexByte(line, delim)
+		if k < 0 {
+			return append(out, line)
+		}
+		out = append(out, line[:k])
+		line = line[k+1:]
+	}
+}
+
 // decodeCSV reads a CSV ride: a header row, comma, semicolon or tab
 // separated. Without a time column each row is one second. A time column of
-// elapsed seconds dates the ride at fallbackStart.
+// elapsed seconds dates the ride at fallbackStart. Rows are read one by one
+// and leniently: a row without a valid time is dropped and counted; a file
+// cut off (a truncated .gz) keeps the rows before the cut, flagged.
 func decodeCSV(r io.Reader, fallbackStart time.Time, opts Options) ([]Ride, error) {
-	br := bufio.NewReader(r)
-	headerLine, err := br.ReadString('\n')
-	if err != nil && err != io.EOF {
-		return nil, err
+	sc := bufio.NewScanner(r)
+	sc.Buffer(make([]byte, 0, 64<<10), MaxCSVLineBytes)
+	sc.Split(csvLines)
+	var headerLine string
+	for sc.Scan() {
+		if headerLine = strings.TrimPrefix(sc.Text(), "\ufeff"); strings.TrimSpace(headerLine) != "" {
+			break
+		}
 	}
-	headerLine = strings.TrimPrefix(headerLine, "\ufeff")
+	if err := sc.Err(); err != nil {
+		return nil, csvReadError(err, 1)
+	}
 	if strings.TrimSpace(headerLine) == "" {
 		return nil, errors.New("CSV file has no header row")
 	}
-	delim := ','
+	delim := byte(',')
 	best := strings.Count(headerLine, ",")
-	for _, c := range []rune{';', '\t'} {
+	for _, c := range []byte{';', '\t'} {
 		if n := strings.Count(headerLine, string(c)); n > best {
 			delim, best = c, n
 		}
 	}
-	cr := csv.NewReader(io.MultiReader(strings.NewReader(headerLine), br))
-	cr.Comma = delim
-	cr.FieldsPerRecord = -1
-	cr.LazyQuotes = true
-	cr.TrimLeadingSpace = true
-	cr.ReuseRecord = true
-	header, err := cr.Read()
-	if err != nil {
-		return nil, fmt.Errorf("CSV header: %v", err)
-	}
+	header := splitCSV(headerLine, delim)
 	cols := map[string]int{}
 	for i, h := range header {
-		key := strings.ToLower(strings.TrimSpace(h))
+		key := strings.ToLower(strings.Trim(strings.TrimSpace(h), `"`))
 		if _, dup := cols[key]; !dup {
 			cols[key] = i
 		}
@@ -74,27 +145,29 @@ func decodeCSV(r io.Reader, fallbackStart time.Time, opts Options) ([]Ride, erro
 		if i < 0 || i >= len(rec) {
 			return ""
 		}
-		return rec[i]
+		return strings.TrimSpace(rec[i])
 	}
 
 	var (
-		samples  []Sample
-		absolute = false
-		relative = false
-		badTimes int
-		loc      *time.Location
-		row      int
-		base     = float64(fallbackStart.Unix())
+		samples   []Sample
+		absolute  = false
+		relative  = false
+		badTimes  int
+		loc       *time.Location
+		row       int
+		base      = float64(fallbackStart.Unix())
+		truncated bool
 	)
-	for {
-		rec, err := cr.Read()
-		if err == io.EOF {
-			break
-		}
-		if err != nil {
-			return nil, fmt.Errorf("CSV line %d: %v", row+2, err)
+	for sc.Scan() {
+		line := sc.Text()
+		if strings.TrimSpace(line) == "" {
+			continue
 		}
 		row++
+		if len(samples) >= MaxSamples {
+			return nil, fmt.Errorf("more than %d rows: not the recording of a ride", MaxSamples)
+		}
+		rec := splitCSV(line, delim)
 		s := Sample{Power: parseNumber(field(rec, pCol)), HeartRate: math.NaN(), Cadence: math.NaN()}
 		if hCol >= 0 {
 			s.HeartRate = parseNumber(field(rec, hCol))
@@ -105,7 +178,7 @@ func decodeCSV(r io.Reader, fallbackStart time.Time, opts Options) ([]Ride, erro
 		if tCol < 0 {
 			s.UnixS = base + float64(row-1)
 		} else {
-			v := strings.TrimSpace(field(rec, tCol))
+			v := field(rec, tCol)
 			if x, err := strconv.ParseFloat(v, 64); err == nil && !math.IsNaN(x) && !math.IsInf(x, 0) {
 				relative = true
 				s.UnixS = base + x
@@ -121,6 +194,13 @@ func decodeCSV(r io.Reader, fallbackStart time.Time, opts Options) ([]Ride, erro
 			}
 		}
 		samples = append(samples, s)
+	}
+	if err := sc.Err(); err != nil {
+		if errors.Is(err, io.ErrUnexpectedEOF) && len(samples) > 0 {
+			truncated = true
+		} else {
+			return nil, csvReadError(err, row+2)
+		}
 	}
 	if absolute && relative {
 		return nil, errors.New("CSV time column mixes elapsed seconds and dates")
@@ -139,8 +219,12 @@ func decodeCSV(r io.Reader, fallbackStart time.Time, opts Options) ([]Ride, erro
 		return nil, err
 	}
 	ride.Sport = "unknown"
+	ride.Quality.Truncated = truncated
+	if truncated {
+		ride.Quality.Notes = append(ride.Quality.Notes, "the file is cut short; the rows before the cut are kept")
+	}
 	if badTimes > 0 {
-		ride.Quality.Notes = append(ride.Quality.Notes, fmt.Sprintf("%d rows without a valid time were ignored", badTimes))
+		ride.Quality.Notes = append(ride.Quality.Notes, fmt.Sprintf("%d rows without a valid time were dropped", badTimes))
 	}
 	if !absolute {
 		if fallbackStart.IsZero() {
@@ -150,4 +234,15 @@ func decodeCSV(r io.Reader, fallbackStart time.Time, opts Options) ([]Ride, erro
 		}
 	}
 	return []Ride{ride}, nil
+}
+
+// csvReadError says in a rider's words why reading stopped.
+func csvReadError(err error, line int) error {
+	switch {
+	case errors.Is(err, bufio.ErrTooLong):
+		return fmt.Errorf("CSV line %d is longer than %d KiB: not a row of a ride", line, MaxCSVLineBytes>>10)
+	case errors.Is(err, errTooLarge):
+		return errTooLarge
+	}
+	return fmt.Errorf("CSV line %d cannot be read (%v)", line, err)
 }

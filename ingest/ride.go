@@ -70,6 +70,7 @@ type Quality struct {
 	SpikeOffsetsS []int      `json:"spike_offsets_s"`
 	InvalidValues int        `json:"invalid_values"` // NaN, infinite or negative power samples
 	TimeReversals int        `json:"time_reversals"` // samples whose time went backwards
+	TimeOutliers  int        `json:"time_outliers"`  // samples dated far from the rest, dropped
 	StuckRuns     []StuckRun `json:"stuck_runs"`
 	Truncated     bool       `json:"truncated"`
 	Salvaged      bool       `json:"salvaged"`

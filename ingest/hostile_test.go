@@ -1,0 +1,112 @@
+package ingest_test
+
+import (
+	"bytes"
+	"fmt"
+	"io"
+	"runtime"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/sustain-cycling/sustain/ingest"
+)
+
+// allocated is the bytes allocated while f runs (a bound on its peak).
+func allocated(f func()) uint64 {
+	var a, b runtime.MemStats
+	runtime.GC()
+	runtime.ReadMemStats(&a)
+	f()
+	runtime.ReadMemStats(&b)
+	return b.TotalAlloc - a.TotalAlloc
+}
+
+// endless is n bytes of one repeated byte, made as they are read.
+type endless struct {
+	c byte
+	n int64
+}
+
+func (e *endless) Read(p []byte) (int, error) {
+	if e.n <= 0 {
+		return 0, io.EOF
+	}
+	k := int(min(int64(len(p)), e.n))
+	for i := range k {
+		p[i] = e.c
+	}
+	e.n -= int64(k)
+	return k, nil
+}
+
+// Hostile CSVs: a line of 100 MB of commas (plain and gzipped) is refused
+// with a reason while reading a few kilobytes of it, never held in memory.
+func TestCSVHugeLineIsRefused(t *testing.T) {
+	head := "seconds,power\n0,100\n"
+	var err error
+	used := allocated(func() {
+		_, err = ingest.Read(io.MultiReader(strings.NewReader(head), &endless{',', 100 << 20}), "x.csv", time.Now(), ingest.Options{})
+	})
+	if err == nil || !strings.Contains(err.Error(), "longer than 64 KiB") {
+		t.Errorf("error %v", err)
+	}
+	if used > 16<<20 {
+		t.Errorf("%d MB allocated reading a 100 MB line", used>>20)
+	}
+	var line bytes.Buffer
+	line.WriteString(head)
+	line.Write(bytes.Repeat([]byte{','}, 50<<20))
+	z := gz(line.Bytes())
+	used = allocated(func() { _, err = ingest.Read(bytes.NewReader(z), "x.csv.gz", time.Now(), ingest.Options{}) })
+	if err == nil || !strings.Contains(err.Error(), "longer than 64 KiB") || used > 16<<20 {
+		t.Errorf("gzipped: error %v, %d MB allocated", err, used>>20)
+	}
+}
+
+// CSVs people and tools write badly keep their good rows: a stray quote on
+// row 1, CR-only line ends, junk rows (counted), a .gz cut short (rows
+// before the cut kept, flagged).
+func TestCSVLenientRows(t *testing.T) {
+	var rows strings.Builder
+	rows.WriteString("seconds,power\n")
+	for i := range 3600 {
+		fmt.Fprintf(&rows, "%d,%d\n", i, 200+i%7)
+	}
+	good := rows.String()
+	quote := strings.Replace(good, "0,200\n", "0,\"200\n", 1)
+	cr := strings.ReplaceAll(good, "\n", "\r")
+	junk := strings.Replace(good, "5,205\n", "5,205\n#### export footer ####\n;;;\nabc,def\n", 1)
+	for name, body := range map[string]string{"stray quote": quote, "CR line ends": cr, "junk rows": junk} {
+		rides, err := ingest.Read(strings.NewReader(body), "x.csv", time.Date(2026, 1, 2, 0, 0, 0, 0, time.UTC), ingest.Options{})
+		if err != nil || len(rides) != 1 || rides[0].Seconds() != 3600 || rides[0].Quality.PowerCoverage < 0.999 {
+			t.Errorf("%s: %v", name, err)
+			continue
+		}
+		if name == "junk rows" && !strings.Contains(strings.Join(rides[0].Quality.Notes, ";"), "3 rows without a valid time were dropped") {
+			t.Errorf("junk rows not counted: %v", rides[0].Quality.Notes)
+		}
+	}
+	z := gz([]byte(good))
+	rides, err := ingest.Read(bytes.NewReader(z[:len(z)*2/3]), "x.csv.gz", time.Date(2026, 1, 2, 0, 0, 0, 0, time.UTC), ingest.Options{})
+	if err != nil || len(rides) != 1 || !rides[0].Quality.Truncated || rides[0].Seconds() < 1000 {
+		t.Errorf("truncated .csv.gz: %v", err)
+	}
+}
+
+// Times outside 1990–2100 are rejected with a reason, whatever the format.
+func TestTimesOutOfRange(t *testing.T) {
+	for name, body := range map[string]string{
+		"year 9999": "timestamp,power\n9999-01-01T00:00:00Z,200\n9999-01-01T00:00:01Z,210\n",
+		"year 1":    "timestamp,power\n0001-01-01T00:00:00Z,200\n0001-01-01T00:00:01Z,210\n",
+	} {
+		_, err := ingest.Read(strings.NewReader(body), "x.csv", time.Time{}, ingest.Options{})
+		if err == nil || !strings.Contains(err.Error(), "outside 1990–2100") {
+			t.Errorf("%s: %v", name, err)
+		}
+	}
+	_, err := ingest.Read(strings.NewReader("seconds,power\n0,200\n1e18,210\n"), "x.csv", time.Now(), ingest.Options{})
+	if err == nil || !strings.Contains(err.Error(), "longer than 48 h") {
+		t.Errorf("1e18 s: %v", err)
+	}
+}
