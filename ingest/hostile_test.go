@@ -110,3 +110,15 @@ func TestTimesOutOfRange(t *testing.T) {
 		t.Errorf("1e18 s: %v", err)
 	}
 }
+
+// A TCX whose one text run is 300 MB is refused while reading it.
+func TestTCXHugeTokenIsRefused(t *testing.T) {
+	head := `<?xml version="1.0"?><TrainingCenterDatabase><Activities><Activity Sport="Biking"><Lap><Track><Trackpoint><Time>`
+	var err error
+	used := allocated(func() {
+		_, err = ingest.Read(io.MultiReader(strings.NewReader(head), &endless{'x', 300 << 20}), "x.tcx", time.Now(), ingest.Options{})
+	})
+	if err == nil || !strings.Contains(err.Error(), "more than 1024 KiB") || used > 32<<20 {
+		t.Errorf("error %v, %d MB allocated", err, used>>20)
+	}
+}

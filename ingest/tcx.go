@@ -15,8 +15,9 @@ import (
 // a long ride is never held as a tree. Elements are matched by local name,
 // whatever namespace prefix the writer used. Each Activity is one ride.
 func decodeTCX(r io.Reader, opts Options) ([]Ride, error) {
-	d := xml.NewDecoder(r)
+	d := xml.NewDecoder(&tokenCap{r: r})
 	d.Strict = true
+	total := 0
 
 	var (
 		acts     []session
@@ -42,6 +43,9 @@ func decodeTCX(r io.Reader, opts Options) ([]Ride, error) {
 		switch t := tok.(type) {
 		case xml.StartElement:
 			name := t.Name.Local
+			if len(path) >= maxXMLDepth {
+				return nil, fmt.Errorf("XML nested more than %d deep: not a ride file", maxXMLDepth)
+			}
 			path = append(path, name)
 			text.Reset()
 			switch name {
@@ -106,10 +110,16 @@ func decodeTCX(r io.Reader, opts Options) ([]Ride, error) {
 						acts = append(acts, session{sport: "unknown"})
 						cur = &acts[len(acts)-1]
 					}
+					if total++; total > MaxSamples {
+						return nil, fmt.Errorf("more than %d trackpoints: not the recording of a ride", MaxSamples)
+					}
 					cur.samples = append(cur.samples, pt)
 				}
 			}
 		}
+	}
+	if errors.Is(decodeEr, errXMLTokenTooLong) {
+		return nil, decodeEr
 	}
 	if decodeEr != nil && !(opts.Salvage && len(acts) > 0) {
 		return nil, fmt.Errorf("malformed XML: %v", decodeEr)
@@ -147,4 +157,32 @@ func parseNumber(s string) float64 {
 		return math.NaN()
 	}
 	return v
+}
+
+// XML bounds: an element, attribute or text run longer than
+// MaxXMLTokenBytes, or elements nested deeper than maxXMLDepth, are no
+// ride file, and refusing them keeps the decoder's buffers bounded.
+const (
+	MaxXMLTokenBytes = 1 << 20
+	maxXMLDepth      = 256
+)
+
+var errXMLTokenTooLong = fmt.Errorf("an XML element or text of more than %d KiB: not a ride file", MaxXMLTokenBytes>>10)
+
+// tokenCap fails when more than MaxXMLTokenBytes pass without a '<' or '>'.
+type tokenCap struct {
+	r   io.Reader
+	run int
+}
+
+func (c *tokenCap) Read(p []byte) (int, error) {
+	n, err := c.r.Read(p)
+	for _, b := range p[:n] {
+		if b == '<' || b == '>' {
+			c.run = 0
+		} else if c.run++; c.run > MaxXMLTokenBytes {
+			return 0, errXMLTokenTooLong
+		}
+	}
+	return n, err
 }
