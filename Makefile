@@ -31,6 +31,7 @@ demo:
 fuzz:
 	for f in FuzzTCX FuzzCSV FuzzFIT FuzzClean; do $(GO) test ./ingest -run '^$$' -fuzz "^$$f$$" -fuzztime 30s || exit 1; done
 	$(GO) test ./lactate -run "^$$" -fuzz "^FuzzReadSteps$$" -fuzztime 30s
+	$(GO) test ./internal/store -run "^$$" -fuzz "^FuzzStoredRow$$" -fuzztime 30s
 
 # how well the estimates recover the truth of invented seasons of every
 # kind and truth model (a report, like bench; not a timed test)

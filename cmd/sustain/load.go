@@ -127,6 +127,12 @@ func scanPaths(c *cli.Context, paths []string) (ingest.Result, []powerduration.R
 	if st := openStore(c); st != nil {
 		res, curves, stats, err := st.Scan(paths, opts)
 		if err == nil {
+			if stats.Rebuilt != "" {
+				fmt.Fprintf(c.App.ErrWriter, "sustain: %s\n", stats.Rebuilt)
+			}
+			if stats.Repaired > 0 {
+				fmt.Fprintf(c.App.ErrWriter, "sustain: %d file(s) in the store failed their check (a damaged store?) and were read again from the files\n", stats.Repaired)
+			}
 			prev, _ := c.App.Metadata["stats"].(store.Stats)
 			prev.Files += stats.Files
 			prev.Decoded += stats.Decoded

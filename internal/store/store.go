@@ -16,6 +16,7 @@ package store
 import (
 	"database/sql"
 	"encoding/binary"
+	"hash/crc32"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -34,7 +35,7 @@ import (
 )
 
 // SchemaVersion changes whenever the tables change; an older store is rebuilt.
-const SchemaVersion = 1
+const SchemaVersion = 2
 
 const schema = `
 CREATE TABLE IF NOT EXISTS meta (key TEXT PRIMARY KEY, value TEXT NOT NULL);
@@ -47,12 +48,14 @@ CREATE TABLE IF NOT EXISTS rides (
 	sha256 TEXT NOT NULL, options TEXT NOT NULL, session INTEGER NOT NULL,
 	start TEXT NOT NULL, sport TEXT NOT NULL, seconds INTEGER NOT NULL,
 	quality TEXT NOT NULL, power BLOB NOT NULL, curve BLOB NOT NULL,
+	sum INTEGER NOT NULL, power_sum INTEGER NOT NULL,
 	PRIMARY KEY (sha256, options, session));
 `
 
 // Store is an open ride store.
 type Store struct {
 	db   *sql.DB
+	wait time.Duration
 	Path string
 	// Notes says what Open had to do (rebuild an old or damaged store).
 	Notes []string
@@ -181,7 +184,7 @@ func open(path string, wait time.Duration) (*Store, error) {
 		return nil, err
 	}
 	db.SetMaxOpenConns(1)
-	s := &Store{db: db, Path: path}
+	s := &Store{db: db, Path: path, wait: wait}
 	if err := s.init(); err != nil {
 		db.Close()
 		if strings.Contains(err.Error(), "locked") || strings.Contains(err.Error(), "busy") {
@@ -259,6 +262,11 @@ type Stats struct {
 	Files   int // files listed
 	Decoded int // files decoded (new or changed)
 	Cached  int // files answered from the store
+	// Repaired counts files whose stored rows failed their check and were
+	// decoded again (and replaced).
+	Repaired int
+	// Rebuilt, when set, says the store was found damaged and rebuilt.
+	Rebuilt string
 }
 
 // entry is one file's result, from the store or freshly decoded.
@@ -271,6 +279,9 @@ type entry struct {
 	curves []powerduration.RideCurve
 	reason string // why the file was skipped
 	fresh  bool   // decoded in this run: to be written
+	// repaired: the store held it, but a row failed its check; it was
+	// decoded again and its rows replaced
+	repaired bool
 	known  bool   // path, size and mtime matched the files table
 	loaded bool   // answered by bulkLoad; raws still to unpack
 	raws   []stored
@@ -281,11 +292,61 @@ type stored struct {
 	session, seconds   int
 	start, sport, qual string
 	curve              []byte
+	sum                int64
 }
 
+// Every stored ride carries checksums (CRC-32C, Castagnoli) written with
+// it: one over what a scan reads (start, sport, length, quality report,
+// curve) and one over its power; a row whose checksum or physical bounds
+// fail is never used, but decoded again from its file.
+var castagnoli = crc32.MakeTable(crc32.Castagnoli)
+
+func rowSum(start, sport string, seconds int, qual string, curve []byte) int64 {
+	h := crc32.New(castagnoli)
+	fmt.Fprintf(h, "%s\x00%s\x00%d\x00%s\x00", start, sport, seconds, qual)
+	h.Write(curve)
+	return int64(h.Sum32())
+}
+
+func powerSum(power []byte) int64 { return int64(crc32.Checksum(power, castagnoli)) }
+
 // Scan reads every ride under paths as ingest.Scan does, with the rides'
-// curves, decoding only the files the store does not already hold.
+// curves, decoding only the files the store does not already hold. Damage
+// found while scanning (a malformed page) moves the store aside, rebuilds
+// it and scans again, once; Stats.Rebuilt says so.
 func (s *Store) Scan(paths []string, opts ingest.Options) (ingest.Result, []powerduration.RideCurve, Stats, error) {
+	res, curves, st, err := s.scan(paths, opts)
+	if err == nil || !damage(err) {
+		return res, curves, st, err
+	}
+	note, rerr := s.rebuild(err)
+	if rerr != nil {
+		return res, curves, st, fmt.Errorf("%v; rebuilding it failed: %w", err, rerr)
+	}
+	res, curves, st, err = s.scan(paths, opts)
+	st.Rebuilt = note
+	return res, curves, st, err
+}
+
+// rebuild moves the damaged store aside and opens a new one at its path.
+func (s *Store) rebuild(cause error) (string, error) {
+	s.db.Close()
+	aside := fmt.Sprintf("%s.damaged-%s", s.Path, time.Now().UTC().Format("20060102T150405"))
+	if err := os.Rename(s.Path, aside); err != nil && !os.IsNotExist(err) {
+		return "", err
+	}
+	for _, suffix := range []string{"-wal", "-shm"} {
+		os.Remove(s.Path + suffix)
+	}
+	ns, err := open(s.Path, s.wait)
+	if err != nil {
+		return "", err
+	}
+	s.db = ns.db
+	return fmt.Sprintf("the store was found damaged (%v); it was moved to %s and rebuilt", cause, aside), nil
+}
+
+func (s *Store) scan(paths []string, opts ingest.Options) (ingest.Result, []powerduration.RideCurve, Stats, error) {
 	files, skipped := ingest.ListFiles(paths)
 	st := Stats{Files: len(files)}
 	key := optionsKey(opts)
@@ -319,7 +380,7 @@ func (s *Store) Scan(paths []string, opts ingest.Options) (ingest.Result, []powe
 				err = s.write(batch, key)
 				if err == nil {
 					for _, e := range batch {
-						e.leavePower(s, key)
+						e.leavePower(s, key, opts)
 					}
 				}
 			}
@@ -381,10 +442,14 @@ func (s *Store) Scan(paths []string, opts ingest.Options) (ingest.Result, []powe
 	var all []pair
 	for i := range es {
 		e := &es[i]
-		if e.fresh {
+		switch {
+		case e.fresh:
 			st.Decoded++
-		} else {
+		case e.reason == "" || e.loaded || e.known:
 			st.Cached++
+		}
+		if e.repaired {
+			st.Repaired++
 		}
 		if e.reason != "" {
 			res.Skipped = append(res.Skipped, ingest.Skipped{File: e.path, Reason: e.reason})
@@ -432,7 +497,10 @@ func (s *Store) lookupHashes(es []entry) error {
 // resolve loads the file's result from the store, or decodes it.
 func (s *Store) resolve(e *entry, key string, opts ingest.Options) error {
 	if e.loaded {
-		return e.unpack(s, key)
+		if e.reason != "" || e.unpack(s, key, opts) {
+			return nil
+		}
+		e.loaded, e.repaired = false, true // decoded again below
 	}
 	if e.hash == "" {
 		// hashed as a stream: a file is never held whole in memory
@@ -443,7 +511,7 @@ func (s *Store) resolve(e *entry, key string, opts ingest.Options) error {
 		}
 		e.hash = h
 	}
-	found, err := s.load(e, key)
+	found, err := s.load(e, key, opts)
 	if err != nil || found {
 		return err
 	}
@@ -467,7 +535,7 @@ func (s *Store) resolve(e *entry, key string, opts ingest.Options) error {
 }
 
 // load reads a stored result; found is false when the store has none.
-func (s *Store) load(e *entry, key string) (found bool, err error) {
+func (s *Store) load(e *entry, key string, opts ingest.Options) (found bool, err error) {
 	var reason string
 	err = s.db.QueryRow(`SELECT reason FROM results WHERE sha256 = ? AND options = ?`, e.hash, key).Scan(&reason)
 	if err == sql.ErrNoRows {
@@ -481,14 +549,14 @@ func (s *Store) load(e *entry, key string) (found bool, err error) {
 		return true, nil
 	}
 	var raws []stored
-	rows, err := s.db.Query(`SELECT session, start, sport, seconds, quality, curve FROM rides
+	rows, err := s.db.Query(`SELECT session, start, sport, seconds, quality, curve, sum FROM rides
 		WHERE sha256 = ? AND options = ? ORDER BY session`, e.hash, key)
 	if err != nil {
 		return false, err
 	}
 	for rows.Next() {
 		var x stored
-		if err := rows.Scan(&x.session, &x.start, &x.sport, &x.seconds, &x.qual, &x.curve); err != nil {
+		if err := rows.Scan(&x.session, &x.start, &x.sport, &x.seconds, &x.qual, &x.curve, &x.sum); err != nil {
 			rows.Close()
 			return false, err
 		}
@@ -502,31 +570,63 @@ func (s *Store) load(e *entry, key string) (found bool, err error) {
 		return false, nil // a results row without rides: decode again
 	}
 	e.raws = raws
-	return true, e.unpack(s, key)
+	if !e.unpack(s, key, opts) {
+		e.repaired = true
+		return false, nil
+	}
+	return true, nil
 }
 
 // unpack turns the entry's stored rows into rides (their power left in the
-// store until needed) and curves.
-func (e *entry) unpack(s *Store, key string) error {
+// store until needed) and curves. A row that fails its checksum or the
+// physical bounds leaves the entry unanswered (ok false), to be decoded
+// again from its file.
+func (e *entry) unpack(s *Store, key string, opts ingest.Options) (ok bool) {
+	var rides []ingest.Ride
+	var curves []powerduration.RideCurve
 	for _, x := range e.raws {
-		r := ingest.Ride{File: e.path, Session: x.session, Sport: x.sport}
-		var err error
-		if r.Start, err = time.Parse(time.RFC3339Nano, x.start); err != nil {
-			return fmt.Errorf("store: %s: %w", e.path, err)
-		}
-		if err := json.Unmarshal([]byte(x.qual), &r.Quality); err != nil {
-			return fmt.Errorf("store: %s: %w", e.path, err)
-		}
-		r.LeavePower(s.powerLoader(e.hash, key, r.Session, r.Quality.Seconds))
-		c, err := decodeCurve(x.curve, &r)
+		r, c, err := x.check(e.path, opts)
 		if err != nil {
-			return fmt.Errorf("store: %s: %w", e.path, err)
+			e.raws, e.rides, e.curves = nil, nil, nil
+			return false
 		}
-		e.rides = append(e.rides, r)
-		e.curves = append(e.curves, c)
+		r.LeavePower(s.powerLoader(e.path, e.hash, key, r.Session, r.Quality.Seconds, opts))
+		rides, curves = append(rides, r), append(curves, c)
 	}
-	e.raws = nil
-	return nil
+	e.rides, e.curves, e.raws = rides, curves, nil
+	return true
+}
+
+// check verifies a stored row and turns it into a ride and its curve:
+// its checksum, its time, quality report and curve within physical
+// bounds (watts finite, 0 to the spike ceiling; offsets inside the ride).
+func (x stored) check(path string, opts ingest.Options) (ingest.Ride, powerduration.RideCurve, error) {
+	bad := func(what string) (ingest.Ride, powerduration.RideCurve, error) {
+		return ingest.Ride{}, powerduration.RideCurve{}, fmt.Errorf("store: %s: stored %s fails its check", path, what)
+	}
+	if rowSum(x.start, x.sport, x.seconds, x.qual, x.curve) != x.sum {
+		return bad("row")
+	}
+	r := ingest.Ride{File: path, Session: x.session, Sport: x.sport}
+	var err error
+	if r.Start, err = time.Parse(time.RFC3339Nano, x.start); err != nil {
+		return bad("start")
+	}
+	if err := json.Unmarshal([]byte(x.qual), &r.Quality); err != nil || r.Quality.Seconds != x.seconds || x.seconds <= 0 || x.seconds > ingest.MaxTimelineS {
+		return bad("quality report")
+	}
+	c, err := decodeCurve(x.curve, &r)
+	if err != nil {
+		return bad("curve")
+	}
+	ceil := ceiling(opts)
+	for i, d := range c.DurationsS() {
+		w, off := c.Watts[i], int(c.OffsetsS[i])
+		if math.IsNaN(w) || w < 0 || w > ceil || off < 0 || off+d > x.seconds {
+			return bad("curve point")
+		}
+	}
+	return r, c, nil
 }
 
 // bulkLoad answers, with two queries, every entry whose hash the files
@@ -567,7 +667,7 @@ func (s *Store) bulkLoad(es []entry, key string) error {
 		return err
 	}
 	raws := map[string][]stored{}
-	rows, err = s.db.Query(`SELECT sha256, session, start, sport, seconds, quality, curve FROM rides
+	rows, err = s.db.Query(`SELECT sha256, session, start, sport, seconds, quality, curve, sum FROM rides
 		WHERE options = ? AND sha256 IN (SELECT value FROM json_each(?)) ORDER BY sha256, session`, key, string(list))
 	if err != nil {
 		return err
@@ -575,7 +675,7 @@ func (s *Store) bulkLoad(es []entry, key string) error {
 	for rows.Next() {
 		var h string
 		var x stored
-		if err := rows.Scan(&h, &x.session, &x.start, &x.sport, &x.seconds, &x.qual, &x.curve); err != nil {
+		if err := rows.Scan(&h, &x.session, &x.start, &x.sport, &x.seconds, &x.qual, &x.curve, &x.sum); err != nil {
 			rows.Close()
 			return err
 		}
@@ -600,27 +700,49 @@ func (s *Store) bulkLoad(es []entry, key string) error {
 
 // leavePower drops the power of freshly decoded rides (and the heart rate
 // and cadence, which the store does not keep), to be fetched on demand.
-func (e *entry) leavePower(s *Store, key string) {
+func (e *entry) leavePower(s *Store, key string, opts ingest.Options) {
 	if !e.fresh {
 		return
 	}
 	for k := range e.rides {
 		r := &e.rides[k]
 		r.HeartRateBPM, r.CadenceRPM = nil, nil
-		r.LeavePower(s.powerLoader(e.hash, key, r.Session, r.Quality.Seconds))
+		r.LeavePower(s.powerLoader(e.path, e.hash, key, r.Session, r.Quality.Seconds, opts))
 	}
 }
 
-// powerLoader fetches one ride's stored power.
-func (s *Store) powerLoader(hash, key string, session, seconds int) func() ([]float64, error) {
+// powerLoader fetches one ride's stored power. Power that fails its
+// checksum or the physical bounds is read again from the ride's file.
+func (s *Store) powerLoader(path, hash, key string, session, seconds int, opts ingest.Options) func() ([]float64, error) {
 	return func() ([]float64, error) {
 		var blob []byte
-		err := s.db.QueryRow(`SELECT power FROM rides WHERE sha256 = ? AND options = ? AND session = ?`, hash, key, session).Scan(&blob)
-		if err != nil {
-			return nil, fmt.Errorf("store %s: %w", s.Path, err)
+		var sum int64
+		err := s.db.QueryRow(`SELECT power, power_sum FROM rides WHERE sha256 = ? AND options = ? AND session = ?`, hash, key, session).Scan(&blob, &sum)
+		if err == nil && powerSum(blob) == sum {
+			if v, err := decodeFloats(blob, seconds); err == nil && inBounds(v, ceiling(opts)) {
+				return v, nil
+			}
 		}
-		return decodeFloats(blob, seconds)
+		rides, rerr := ingest.ReadFile(path, opts)
+		if rerr != nil {
+			return nil, fmt.Errorf("store %s: the power of %s fails its check, and the file cannot be read again (%v)", s.Path, path, rerr)
+		}
+		for _, r := range rides {
+			if r.Session == session && len(r.PowerW) == seconds {
+				return r.PowerW, nil
+			}
+		}
+		return nil, fmt.Errorf("store %s: the power of %s fails its check, and the file has changed", s.Path, path)
 	}
+}
+
+func inBounds(v []float64, ceil float64) bool {
+	for _, w := range v {
+		if !(w >= 0 && w <= ceil) { // also false for NaN
+			return false
+		}
+	}
+	return true
 }
 
 // write stores the entries' fresh results and the files' hashes in one
@@ -650,9 +772,10 @@ func (s *Store) write(es []*entry, key string) error {
 			if err != nil {
 				return err
 			}
-			if _, err := tx.Exec(`INSERT OR REPLACE INTO rides (sha256, options, session, start, sport, seconds, quality, power, curve)
-				VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)`, e.hash, key, r.Session, r.Start.Format(time.RFC3339Nano), r.Sport,
-				len(r.PowerW), string(q), encodeFloats(r.PowerW), encodeCurve(e.curves[k])); err != nil {
+			start, power, curve := r.Start.Format(time.RFC3339Nano), encodeFloats(r.PowerW), encodeCurve(e.curves[k])
+			if _, err := tx.Exec(`INSERT OR REPLACE INTO rides (sha256, options, session, start, sport, seconds, quality, power, curve, sum, power_sum)
+				VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`, e.hash, key, r.Session, start, r.Sport,
+				len(r.PowerW), string(q), power, curve, rowSum(start, r.Sport, len(r.PowerW), string(q), curve), powerSum(power)); err != nil {
 				return err
 			}
 		}
