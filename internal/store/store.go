@@ -16,10 +16,10 @@ package store
 import (
 	"database/sql"
 	"encoding/binary"
-	"hash/crc32"
 	"encoding/json"
 	"errors"
 	"fmt"
+	"hash/crc32"
 	"math"
 	"os"
 	"path/filepath"
@@ -282,9 +282,9 @@ type entry struct {
 	// repaired: the store held it, but a row failed its check; it was
 	// decoded again and its rows replaced
 	repaired bool
-	known  bool   // path, size and mtime matched the files table
-	loaded bool   // answered by bulkLoad; raws still to unpack
-	raws   []stored
+	known    bool // path, size and mtime matched the files table
+	loaded   bool // answered by bulkLoad; raws still to unpack
+	raws     []stored
 }
 
 // stored is a ride's row as read, before its blobs are unpacked.
