@@ -227,6 +227,8 @@ func decodeCSV(r io.Reader, fallbackStart time.Time, opts Options) ([]Ride, erro
 		ride.Quality.Notes = append(ride.Quality.Notes, fmt.Sprintf("%d rows without a valid time were dropped", badTimes))
 	}
 	if !absolute {
+		ride.Quality.DatedByFallback = true
+		ride.Quality.FallbackOffsetS = ride.Start.Sub(fallbackStart).Seconds()
 		if fallbackStart.IsZero() {
 			ride.Quality.Notes = append(ride.Quality.Notes, "no date in the file or its name")
 		} else {

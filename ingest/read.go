@@ -90,12 +90,11 @@ func ReadFile(path string, opts Options) ([]Ride, error) {
 		return nil, &FileError{path, err}
 	}
 	defer f.Close()
-	fallback := startFromName(path)
-	if fallback.IsZero() {
-		if st, err := f.Stat(); err == nil {
-			fallback = st.ModTime()
-		}
+	var mtime time.Time
+	if st, err := f.Stat(); err == nil {
+		mtime = st.ModTime()
 	}
+	fallback := FallbackStart(path, mtime)
 	rides, err := Read(f, path, fallback, opts)
 	if err != nil {
 		return nil, &FileError{path, err}
@@ -187,6 +186,15 @@ func looksLikeText(b []byte) bool {
 		}
 	}
 	return true
+}
+
+// FallbackStart dates a file that holds elapsed times only: a date in its
+// name (2026-03-14, 20260314), else its modification time.
+func FallbackStart(path string, mtime time.Time) time.Time {
+	if t := startFromName(path); !t.IsZero() {
+		return t
+	}
+	return mtime
 }
 
 var dateInName = regexp.MustCompile(`(20\d\d|19\d\d)-?(0[1-9]|1[0-2])-?(0[1-9]|[12]\d|3[01])`)

@@ -73,8 +73,13 @@ type Quality struct {
 	TimeOutliers  int        `json:"time_outliers"`  // samples dated far from the rest, dropped
 	StuckRuns     []StuckRun `json:"stuck_runs"`
 	Truncated     bool       `json:"truncated"`
-	Salvaged      bool       `json:"salvaged"`
-	Notes         []string   `json:"notes,omitempty"`
+	// DatedByFallback: the file holds elapsed times only, so the ride is
+	// dated by a date in the file's name, else its modification time
+	// (FallbackStart), plus FallbackOffsetS.
+	DatedByFallback bool     `json:"dated_by_fallback,omitempty"`
+	FallbackOffsetS float64  `json:"fallback_offset_s,omitempty"`
+	Salvaged        bool     `json:"salvaged"`
+	Notes           []string `json:"notes,omitempty"`
 }
 
 // Ride is one recorded ride (one session of a file) on a clean 1-Hz timeline.

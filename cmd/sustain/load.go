@@ -130,6 +130,9 @@ func scanPaths(c *cli.Context, paths []string) (ingest.Result, []powerduration.R
 			if stats.Rebuilt != "" {
 				fmt.Fprintf(c.App.ErrWriter, "sustain: %s\n", stats.Rebuilt)
 			}
+			if stats.WriteFailed != "" {
+				fmt.Fprintf(c.App.ErrWriter, "sustain: store %s: %s\n", st.Path, stats.WriteFailed)
+			}
 			if stats.Repaired > 0 {
 				fmt.Fprintf(c.App.ErrWriter, "sustain: %d file(s) in the store failed their check (a damaged store?) and were read again from the files\n", stats.Repaired)
 			}

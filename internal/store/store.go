@@ -267,6 +267,9 @@ type Stats struct {
 	Repaired int
 	// Rebuilt, when set, says the store was found damaged and rebuilt.
 	Rebuilt string
+	// WriteFailed, when set, says results could not be stored (writing
+	// stopped at the first failure; the scan's results are complete).
+	WriteFailed string
 }
 
 // entry is one file's result, from the store or freshly decoded.
@@ -427,8 +430,10 @@ func (s *Store) scan(paths []string, opts ingest.Options) (ingest.Result, []powe
 	close(next)
 	wg.Wait()
 	close(toWrite)
-	if err := <-writeErr; err != nil && firstErr == nil {
-		firstErr = err
+	if err := <-writeErr; err != nil {
+		// a full disk or a read-only store costs the caching, not the
+		// scan: every result is in memory; nothing more is written
+		st.WriteFailed = fmt.Sprintf("results could not be written to the store (%v); this run did not cache them", err)
 	}
 	if firstErr != nil {
 		return ingest.Result{}, nil, st, firstErr
@@ -589,6 +594,13 @@ func (e *entry) unpack(s *Store, key string, opts ingest.Options) (ok bool) {
 		if err != nil {
 			e.raws, e.rides, e.curves = nil, nil, nil
 			return false
+		}
+		if q := r.Quality; q.DatedByFallback {
+			// the date is the path's and the file's, not the content's: the
+			// same bytes under another name or time are another day
+			fb := ingest.FallbackStart(e.path, time.Unix(0, e.mtime))
+			r.Start = fb.Add(time.Duration(q.FallbackOffsetS * 1e9)).In(fb.Location())
+			c.Source = powerduration.SourceOf(&r)
 		}
 		r.LeavePower(s.powerLoader(e.path, e.hash, key, r.Session, r.Quality.Seconds, opts))
 		rides, curves = append(rides, r), append(curves, c)

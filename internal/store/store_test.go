@@ -353,3 +353,58 @@ func FuzzStoredRow(f *testing.F) {
 		}
 	})
 }
+
+// A CSV of elapsed seconds is dated by its name, else its modification
+// time: the same bytes under another name, or touched, get their own date
+// from the store, as decoding them would give.
+func TestDatesAreThePathsNotTheContents(t *testing.T) {
+	dir := t.TempDir()
+	var body strings.Builder
+	body.WriteString("seconds,power\n")
+	for i := range 600 {
+		fmt.Fprintf(&body, "%d,%d\n", i, 200+i%5)
+	}
+	a, b, c := filepath.Join(dir, "2024-03-15-ride.csv"), filepath.Join(dir, "2024-05-01-copy.csv"), filepath.Join(dir, "undated.csv")
+	for _, p := range []string{a, b, c} {
+		os.WriteFile(p, []byte(body.String()), 0o644)
+	}
+	old := time.Date(2023, 7, 9, 10, 0, 0, 0, time.UTC)
+	os.Chtimes(c, old, old)
+	s := openTemp(t)
+	if _, _, _, err := s.Scan([]string{dir}, ingest.Options{}); err != nil {
+		t.Fatal(err)
+	}
+	now := time.Date(2025, 2, 3, 4, 5, 6, 0, time.UTC)
+	os.Chtimes(c, now, now) // touched
+	res, _, _, err := s.Scan([]string{dir}, ingest.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := map[string]string{a: "2024-03-15", b: "2024-05-01", c: now.Local().Format("2006-01-02")}
+	for _, r := range res.Rides {
+		if d := r.Date(); d != want[r.File] {
+			t.Errorf("%s dated %s, want %s", filepath.Base(r.File), d, want[r.File])
+		}
+	}
+	plain := ingest.Scan([]string{dir}, ingest.Options{})
+	for i := range plain.Rides {
+		if !plain.Rides[i].Start.Equal(res.Rides[i].Start) {
+			t.Errorf("%s: store %v, decoding %v", filepath.Base(plain.Rides[i].File), res.Rides[i].Start, plain.Rides[i].Start)
+		}
+	}
+}
+
+// A store that cannot be written (a full disk, a read-only database) costs
+// the caching, not the scan: the results are complete and the run says why
+// once.
+func TestWriteFailureStopsWritingNotScanning(t *testing.T) {
+	dir := season(t, 1)
+	s := openTemp(t)
+	s.db.Exec(`PRAGMA query_only = 1`)
+	res, curves, st, err := s.Scan([]string{dir}, ingest.Options{})
+	if err != nil || st.WriteFailed == "" {
+		t.Fatalf("err %v, stats %+v", err, st)
+	}
+	plain := ingest.Scan([]string{dir}, ingest.Options{})
+	sameAsDecoding(t, "read-only store", res, curves, plain, powerduration.OfRides(plain.Rides, 0))
+}
