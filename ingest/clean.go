@@ -148,6 +148,9 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 	if valid == 0 {
 		return Ride{}, ErrNoPower
 	}
+	if slices.Max(power) == 0 {
+		return Ride{}, fmt.Errorf("%w (power is 0 W throughout: no power meter paired?)", ErrNoPower)
+	}
 	if first < EarliestUnixS || last > LatestUnixS {
 		return Ride{}, fmt.Errorf("times outside 1990–2100 (%s to %s): a clock or file error, not a ride", unixDate(first), unixDate(last))
 	}

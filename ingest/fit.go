@@ -21,17 +21,21 @@ var fitEpoch = time.Date(1989, 12, 31, 0, 0, 0, 0, time.UTC).Unix()
 // error unless opts.Salvage.
 func decodeFIT(r io.Reader, opts Options) ([]Ride, error) {
 	f, err := fit.Decode(r)
+	if err != nil && strings.Contains(err.Error(), errTooLarge.Error()) {
+		return nil, errTooLarge
+	}
 	if f == nil {
 		if err == nil {
 			err = errors.New("no data")
 		}
-		return nil, fmt.Errorf("not a readable FIT file: %v", err)
+		return nil, fmt.Errorf("not a readable FIT file: %s", fitReason(err))
 	}
 	var truncated, salvaged bool
 	if err != nil {
 		var integrity fit.IntegrityError
 		switch {
-		case strings.Contains(err.Error(), io.ErrUnexpectedEOF.Error()):
+		case strings.Contains(err.Error(), io.ErrUnexpectedEOF.Error()), strings.Contains(err.Error(), "beyond data size"):
+			// the file ends before its header says it does: cut short
 			truncated = true
 		case errors.As(err, &integrity):
 			if !opts.Salvage {
@@ -40,12 +44,15 @@ func decodeFIT(r io.Reader, opts Options) ([]Ride, error) {
 			salvaged = true
 		default:
 			if !opts.Salvage {
-				return nil, fmt.Errorf("damaged FIT file (%v; --salvage keeps the records before the damage)", err)
+				return nil, fmt.Errorf("damaged FIT file (%s); --salvage keeps the records before the damage", fitReason(err))
 			}
 			salvaged = true
 		}
 	}
-	if t := f.Type(); t != fit.FileTypeActivity {
+	switch t := f.Type(); {
+	case t == 0 || t == fit.FileTypeInvalid:
+		return nil, errors.New("FIT file holds no description of what it is (only a header, or cut short before its first message)")
+	case t != fit.FileTypeActivity:
 		return nil, fmt.Errorf("FIT file is not an activity (file type %s)", strings.ToLower(t.String()))
 	}
 	act, aerr := f.Activity()
@@ -161,4 +168,19 @@ func dropWildTimes(samples []Sample) ([]Sample, int) {
 		}
 	}
 	return kept, len(samples) - len(kept)
+}
+
+// fitReason says in a rider's words what the FIT library found wrong,
+// without its internals (message numbers, field layouts).
+func fitReason(err error) string {
+	m := err.Error()
+	switch {
+	case strings.Contains(m, "missing data definition"):
+		return "a record refers to a message type the file never defined"
+	case strings.Contains(m, "less than base type size"):
+		return "a field is declared smaller than its type"
+	case strings.Contains(m, "header"):
+		return "its header is not a FIT header"
+	}
+	return "its data does not follow the FIT protocol"
 }

@@ -4,6 +4,8 @@ import (
 	"bytes"
 	"fmt"
 	"io"
+	"os"
+	"path/filepath"
 	"runtime"
 	"strings"
 	"testing"
@@ -121,4 +123,39 @@ func TestTCXHugeTokenIsRefused(t *testing.T) {
 	if err == nil || !strings.Contains(err.Error(), "more than 1024 KiB") || used > 32<<20 {
 		t.Errorf("error %v, %d MB allocated", err, used>>20)
 	}
+}
+
+// A FIT file that is a header only says so in a rider's words, and no
+// reason carries the FIT library's internals.
+func TestFITReasonsInPlainWords(t *testing.T) {
+	header := []byte{14, 0x10, 0x2d, 0x08, 0, 0, 0, 0, '.', 'F', 'I', 'T', 0, 0, 0, 0}
+	_, err := ingest.Read(bytes.NewReader(header), "h.fit", time.Time{}, ingest.Options{})
+	if err == nil || !strings.Contains(err.Error(), "only a header") {
+		t.Errorf("header only: %v", err)
+	}
+	for _, name := range []string{"ride-misaligned-fields.fit", "run-short-undefined-local.fit"} {
+		_, err := ingest.ReadFile(filepath.Join(realFit(t), name), ingest.Options{AnySport: true})
+		if err == nil {
+			continue
+		}
+		for _, internal := range []string{"[local:", "global:", "btype", "arch:"} {
+			if strings.Contains(err.Error(), internal) {
+				t.Errorf("%s: %v", name, err)
+			}
+		}
+	}
+}
+
+// realFit is ../shared/realfit (public device files; its README says what
+// each holds). Missing in CI is a failure, elsewhere a skip.
+func realFit(t *testing.T) string {
+	t.Helper()
+	dir, _ := filepath.Abs(filepath.Join("..", "..", "shared", "realfit"))
+	if _, err := os.Stat(dir); err != nil {
+		if os.Getenv("CI") != "" {
+			t.Fatalf("the real device files are missing: %v", err)
+		}
+		t.Skip("no ../shared/realfit here")
+	}
+	return dir
 }
