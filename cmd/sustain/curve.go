@@ -251,7 +251,7 @@ func isPlotName(p string) bool {
 
 // effortRow is a tab-separated row naming an effort and where it was ridden.
 func effortRow(p powerduration.Point) string {
-	return fmt.Sprintf("  %s\t%.0f W\t%s\tat %s in %s", durationLabel(p.DurationS), p.Watts, p.Date, clock(p.OffsetS), p.File)
+	return fmt.Sprintf("  %s\t%.0f W\t%s\tat %s in %s", durationLabel(p.DurationS), p.Watts, p.Date, clock(p.OffsetS), shown(p.File))
 }
 
 // durationLabel writes a duration as a rider says it: 5 s, 8 min, 1 h 30 min.
@@ -307,7 +307,7 @@ func renderCurve(w io.Writer, out curveOut, paths []string) {
 				row += "-\t-\t"
 			}
 		}
-		row += fmt.Sprintf("%s\t%s\t  %s", p.Date, clock(p.OffsetS), p.File)
+		row += fmt.Sprintf("%s\t%s\t  %s", p.Date, clock(p.OffsetS), shown(p.File))
 		files[p.File] = true
 		fmt.Fprintln(tw, row)
 	}

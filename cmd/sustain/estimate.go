@@ -281,7 +281,7 @@ func renderEstimate(w io.Writer, out estimateOut, massKG float64) {
 		fmt.Fprintln(w, "\nRules of thumb (common practice)")
 		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 		for _, r := range out.Rules {
-			fmt.Fprintf(tw, "  %s\t%.0f W\t%s\tfrom %.0f W on %s at %s in %s\n", r.Rule, r.Watts, r.Confidence, r.Effort.Watts, r.Effort.Date, clock(r.Effort.OffsetS), r.Effort.File)
+			fmt.Fprintf(tw, "  %s\t%.0f W\t%s\tfrom %.0f W on %s at %s in %s\n", r.Rule, r.Watts, r.Confidence, r.Effort.Watts, r.Effort.Date, clock(r.Effort.OffsetS), shown(r.Effort.File))
 		}
 		tw.Flush()
 		for _, r := range out.Rules {
@@ -340,7 +340,7 @@ func renderEstimate(w io.Writer, out estimateOut, massKG float64) {
 			fmt.Fprintln(w, "  No ride drove W′ balance below −10 % of W′: the fit is consistent with every ride in the window.")
 		}
 		for _, a := range out.Audit {
-			fmt.Fprintf(w, "  %s %s: balance fell to %.1f kJ at %s: CP or W′ is probably too low\n", a.Date, a.File, a.MinBalanceJ/1000, clock(a.AtS))
+			fmt.Fprintf(w, "  %s %s: balance fell to %.1f kJ at %s: CP or W′ is probably too low\n", a.Date, shown(a.File), a.MinBalanceJ/1000, clock(a.AtS))
 		}
 	}
 	if len(out.Skipped) > 0 {

@@ -130,7 +130,7 @@ func renderInspect(w io.Writer, res ingest.Result) {
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%.0f%%\t%gs\t%s\t%s\t%d\t%s\t%s\t%s%s\t%s\n",
 			r.Date(), r.Start.Format("15:04"), clock(q.Seconds), 100*q.PowerCoverage, q.RecordingIntervalS,
 			countSeconds(len(q.Gaps), q.GapSeconds), countSeconds(len(q.Dropouts), q.DropoutSeconds),
-			q.SpikesRemoved, stuckText(q.StuckRuns), r.Sport, r.File, session, strings.Join(notes, "; "))
+			q.SpikesRemoved, stuckText(q.StuckRuns), r.Sport, shown(r.File), session, strings.Join(notes, "; "))
 	}
 	tw.Flush()
 	if len(res.Rides) > 0 {

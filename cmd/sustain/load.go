@@ -152,7 +152,7 @@ func scanPaths(c *cli.Context, paths []string) (ingest.Result, []powerduration.R
 // reportSkipped writes one line per skipped file to w.
 func reportSkipped(w io.Writer, skipped []ingest.Skipped) {
 	for _, s := range skipped {
-		fmt.Fprintf(w, "skipped %s: %s\n", s.File, s.Reason)
+		fmt.Fprintf(w, "skipped %s: %s\n", shown(s.File), s.Reason)
 	}
 }
 

@@ -126,3 +126,25 @@ func TestExitStatus(t *testing.T) {
 		}
 	}
 }
+
+// A file name with a newline or an escape sequence cannot fake a line of
+// output or colour the terminal: text output quotes it.
+func TestOddNamesAreQuoted(t *testing.T) {
+	dir := t.TempDir()
+	var b bytes.Buffer
+	synth.WriteFIT(&b, synth.FieldRide(athlete, time.Date(2026, 4, 1, 9, 0, 0, 0, time.UTC), 30, []int{300}, 1))
+	odd := filepath.Join(dir, "ride\nskipped everything.fit")
+	os.WriteFile(odd, b.Bytes(), 0o644)
+	os.WriteFile(filepath.Join(dir, "\x1b[31mred.fit"), []byte("not a ride"), 0o644)
+	code, out, errs := runCmd(t, "inspect", dir, "--no-store")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	all := out + errs
+	if strings.Contains(all, "\x1b[31m") || strings.Contains(all, "\nskipped everything.fit") {
+		t.Errorf("a name got into the output raw:\n%q", all)
+	}
+	if !strings.Contains(all, `ride\nskipped everything.fit"`) || !strings.Contains(all, `\x1b[31mred.fit"`) {
+		t.Errorf("names not quoted:\n%q", all)
+	}
+}

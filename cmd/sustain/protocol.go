@@ -118,7 +118,7 @@ func allOutAction(c *cli.Context) error {
 	if c.Bool("json") {
 		return writeJSON(w, map[string]any{"file": r.File, "date": r.Date(), "test": a, "caution": estimate.Caution})
 	}
-	fmt.Fprintf(w, "3-minute all-out test, %s (%s), from %s\n\n", r.File, r.Date(), clock(a.StartS))
+	fmt.Fprintf(w, "3-minute all-out test, %s (%s), from %s\n\n", shown(r.File), r.Date(), clock(a.StartS))
 	fmt.Fprintf(w, "  end-test power (mean of the last 30 s, estimates CP)   %.0f W\n", a.EndPowerW)
 	fmt.Fprintf(w, "  work above end-test power (estimates W′)              %.1f kJ\n", a.WorkAboveJ/1000)
 	fmt.Fprintf(w, "  mean power %.0f W, first 30 s %.0f W, peak %.0f W\n", a.MeanW, a.First30W, a.PeakW)
