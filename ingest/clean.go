@@ -222,53 +222,49 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 }
 
 // removeRelativeSpikes treats as missing every run of at most
-// MaxSpikeRunS valid seconds far above the valid seconds on both sides
-// (see SpikeRatio; a neighbour may be across a short missing run, as when
-// a sensor drops out and comes back with a spike), counting them as
-// spikes; it returns how many seconds it removed.
+// MaxSpikeRunS consecutive valid seconds far above the valid seconds on
+// both sides (see SpikeRatio; a neighbour may be across a short missing
+// run, as when a sensor drops out and comes back with a spike), counting
+// them as spikes; it returns how many seconds it removed.
 func removeRelativeSpikes(power []float64, count []int32, q *Quality) int {
-	var valid []int
-	for i, c := range count {
-		if c > 0 {
-			valid = append(valid, i)
-		}
-	}
+	n := len(power)
 	near := func(a, b int) bool { return b-a <= MaxFilledRunS+1 }
+	far := func(v, ref float64) bool { return v > SpikeRatio*ref && v-ref > SpikeExcessW }
 	removed := 0
-	if len(valid) == 0 {
-		return 0
-	}
-	left := valid[0] // the last second before valid[x] that is still valid
-	for x := 1; x < len(valid); x++ {
-		i := valid[x]
-		if !near(left, i) {
-			left = i
+	left := -1 // the last valid second kept
+	for i := 0; i < n; i++ {
+		if count[i] == 0 {
 			continue
 		}
-		for k := 1; k <= MaxSpikeRunS && x+k < len(valid); k++ {
-			run := valid[x : x+k]
-			right := valid[x+k]
-			if !near(run[k-1], right) || run[k-1]-i != k-1 {
+		if left < 0 || !near(left, i) || !far(power[i], power[left]) {
+			left = i // the usual case: not far above the second before
+			continue
+		}
+		spike := false
+		low := math.Inf(1)
+		for k := 1; k <= MaxSpikeRunS && i+k-1 < n && count[i+k-1] > 0; k++ {
+			j := i + k - 1
+			low = min(low, power[j])
+			right := j + 1
+			for right < n && count[right] == 0 && near(j, right) {
+				right++
+			}
+			if right >= n || count[right] == 0 || !near(j, right) {
 				break
 			}
-			ref := max(power[left], power[right])
-			low := math.Inf(1)
-			for _, j := range run {
-				low = min(low, power[j])
-			}
-			if low > SpikeRatio*ref && low-ref > SpikeExcessW {
-				for _, j := range run {
-					power[j], count[j] = 0, 0
+			if far(low, max(power[left], power[right])) {
+				for x := i; x <= j; x++ {
+					power[x], count[x] = 0, 0
 					q.SpikesRemoved++
-					q.SpikeOffsetsS = append(q.SpikeOffsetsS, j)
+					q.SpikeOffsetsS = append(q.SpikeOffsetsS, x)
 					removed++
 				}
-				x += k - 1
+				i, spike = j, true
 				break
 			}
 		}
-		if count[valid[x]] > 0 {
-			left = valid[x]
+		if !spike {
+			left = i
 		}
 	}
 	return removed

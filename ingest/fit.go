@@ -1,6 +1,7 @@
 package ingest
 
 import (
+	"bytes"
 	"errors"
 	"fmt"
 	"io"
@@ -20,10 +21,11 @@ var fitEpoch = time.Date(1989, 12, 31, 0, 0, 0, 0, time.UTC).Unix()
 // before the cut (Truncated); a checksum mismatch on a complete file is an
 // error unless opts.Salvage.
 func decodeFIT(r io.Reader, opts Options) ([]Ride, error) {
-	f, err := fit.Decode(r)
-	if err != nil && strings.Contains(err.Error(), errTooLarge.Error()) {
-		return nil, errTooLarge
+	data, err := boundedFIT(r)
+	if err != nil {
+		return nil, err
 	}
+	f, err := fit.Decode(bytes.NewReader(data))
 	if f == nil {
 		if err == nil {
 			err = errors.New("no data")
