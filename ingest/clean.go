@@ -338,3 +338,7 @@ func mainStretch(samples []Sample) ([]Sample, int) {
 	}
 	return kept, len(samples) - len(kept)
 }
+
+// unixSeconds is t in Unix seconds with its fraction, for any year
+// (UnixNano overflows outside 1678–2262 and would date year 9999 in 1815).
+func unixSeconds(t time.Time) float64 { return float64(t.Unix()) + float64(t.Nanosecond())/1e9 }

@@ -184,7 +184,7 @@ func decodeCSV(r io.Reader, fallbackStart time.Time, opts Options) ([]Ride, erro
 				s.UnixS = base + x
 			} else if tm, err := time.Parse(time.RFC3339Nano, v); err == nil {
 				absolute = true
-				s.UnixS = float64(tm.UnixNano()) / 1e9
+				s.UnixS = unixSeconds(tm)
 				if loc == nil {
 					loc = tm.Location()
 				}

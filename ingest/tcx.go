@@ -86,7 +86,7 @@ func decodeTCX(r io.Reader, opts Options) ([]Ride, error) {
 			case "Time":
 				if parent == "Trackpoint" {
 					if tm, err := time.Parse(time.RFC3339Nano, v); err == nil {
-						pt.UnixS = float64(tm.UnixNano()) / 1e9
+						pt.UnixS = unixSeconds(tm)
 						ptTime = true
 						if loc == nil {
 							loc = tm.Location()

@@ -155,7 +155,7 @@ func OpenWait(path string, wait time.Duration) (*Store, error) {
 		return nil, fmt.Errorf("store %s is locked by another run: %w", path, err)
 	}
 	if !damage(err) {
-		return nil, fmt.Errorf("store %s cannot be used (%v)", path, err)
+		return nil, fmt.Errorf("store %s cannot be opened for writing (a read-only folder or file, or no space?)", path)
 	}
 	// damaged: move it aside and start afresh
 	aside := fmt.Sprintf("%s.damaged-%s", path, time.Now().UTC().Format("20060102T150405"))
