@@ -2,6 +2,7 @@ package ingest_test
 
 import (
 	"bytes"
+	"runtime"
 	"testing"
 	"time"
 
@@ -37,5 +38,29 @@ func BenchmarkIngestFIT(b *testing.B) {
 		if _, err := ingest.Read(bytes.NewReader(data), "r.fit", time.Time{}, ingest.Options{}); err != nil {
 			b.Fatal(err)
 		}
+	}
+}
+
+// BenchmarkReadBudget reports, per format, the bytes allocated to read a
+// 3-h ride per second of its timeline (B/s-of-ride): the memory budget a
+// file costs, which the caps keep bounded whatever the file holds.
+func BenchmarkReadBudget(b *testing.B) {
+	tr := synth.FieldRide(rider, start, 180, []int{300, 1200}, 9)
+	for _, format := range []string{"fit", "tcx", "csv"} {
+		data := encode(b, format, tr)
+		b.Run(format, func(b *testing.B) {
+			var a, z runtime.MemStats
+			runtime.ReadMemStats(&a)
+			seconds := 0
+			for b.Loop() {
+				rides, err := ingest.Read(bytes.NewReader(data), "r."+format, start, ingest.Options{})
+				if err != nil {
+					b.Fatal(err)
+				}
+				seconds = rides[0].Seconds()
+			}
+			runtime.ReadMemStats(&z)
+			b.ReportMetric(float64(z.TotalAlloc-a.TotalAlloc)/float64(b.N)/float64(seconds), "B/s-of-ride")
+		})
 	}
 }

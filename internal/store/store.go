@@ -131,7 +131,8 @@ func whose(path string) (exists bool, err error) {
 // damaged (and not, say, unreadable or in a read-only folder).
 func damage(err error) bool {
 	m := strings.ToLower(err.Error())
-	return strings.Contains(m, "malformed") || strings.Contains(m, "not a database") || strings.Contains(m, "corrupt")
+	return strings.Contains(m, "malformed") || strings.Contains(m, "not a database") || strings.Contains(m, "corrupt") ||
+		strings.Contains(m, "no such column") || strings.Contains(m, "no such table")
 }
 
 // OpenWait is Open with the longest wait for another run's lock. Only a
