@@ -408,3 +408,25 @@ func TestWriteFailureStopsWritingNotScanning(t *testing.T) {
 	plain := ingest.Scan([]string{dir}, ingest.Options{})
 	sameAsDecoding(t, "read-only store", res, curves, plain, powerduration.OfRides(plain.Rides, 0))
 }
+
+// Damage found after the store was opened (here a table that lost a
+// column) rebuilds the store, once, and the scan is whole.
+func TestDamageFoundWhileScanningRebuilds(t *testing.T) {
+	dir := season(t, 1)
+	s := openTemp(t)
+	if _, _, _, err := s.Scan([]string{dir}, ingest.Options{}); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := s.db.Exec(`ALTER TABLE rides DROP COLUMN sum`); err != nil {
+		t.Fatal(err)
+	}
+	res, curves, st, err := s.Scan([]string{dir}, ingest.Options{})
+	if err != nil || st.Rebuilt == "" {
+		t.Fatalf("err %v, stats %+v", err, st)
+	}
+	plain := ingest.Scan([]string{dir}, ingest.Options{})
+	sameAsDecoding(t, "rebuilt", res, curves, plain, powerduration.OfRides(plain.Rides, 0))
+	if _, _, st, err := s.Scan([]string{dir}, ingest.Options{}); err != nil || st.Rebuilt != "" || st.Cached != st.Files {
+		t.Errorf("the next scan: err %v, stats %+v", err, st)
+	}
+}
