@@ -4,8 +4,10 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"reflect"
 	"strings"
 	"text/tabwriter"
+	"unicode/utf8"
 
 	"github.com/sustain-cycling/sustain/ingest"
 	"github.com/sustain-cycling/sustain/internal/store"
@@ -96,10 +98,74 @@ func onlyProblems(res ingest.Result) ingest.Result {
 	return ingest.Result{Rides: keep, Skipped: res.Skipped, Read: len(res.Rides)}
 }
 
+// writeJSON writes v as indented JSON. A string that is not valid UTF-8
+// (a file name in another encoding) keeps every byte: each byte that is
+// not UTF-8 is written as \xNN (a backslash, x and two hex digits), where
+// JSON itself would have replaced it.
 func writeJSON(w io.Writer, v any) error {
+	if v != nil {
+		cp := reflect.New(reflect.TypeOf(v)).Elem()
+		cp.Set(reflect.ValueOf(v))
+		escapeInvalid(cp)
+		v = cp.Interface()
+	}
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
 	return enc.Encode(v)
+}
+
+// escapeInvalid rewrites, in place, the strings under v that are not
+// valid UTF-8 (see writeJSON).
+func escapeInvalid(v reflect.Value) {
+	switch v.Kind() {
+	case reflect.String:
+		if s := v.String(); !utf8.ValidString(s) && v.CanSet() {
+			var b strings.Builder
+			for len(s) > 0 {
+				r, n := utf8.DecodeRuneInString(s)
+				if r == utf8.RuneError && n == 1 {
+					fmt.Fprintf(&b, "\\x%02x", s[0])
+				} else {
+					b.WriteString(s[:n])
+				}
+				s = s[n:]
+			}
+			v.SetString(b.String())
+		}
+	case reflect.Pointer, reflect.Interface:
+		if !v.IsNil() {
+			if v.Kind() == reflect.Interface {
+				e := reflect.New(v.Elem().Type()).Elem()
+				e.Set(v.Elem())
+				escapeInvalid(e)
+				if v.CanSet() {
+					v.Set(e)
+				}
+				return
+			}
+			escapeInvalid(v.Elem())
+		}
+	case reflect.Struct:
+		for i := range v.NumField() {
+			if v.Type().Field(i).IsExported() {
+				escapeInvalid(v.Field(i))
+			}
+		}
+	case reflect.Slice, reflect.Array:
+		if v.Kind() == reflect.Slice && v.Type().Elem().Kind() == reflect.Uint8 {
+			return // bytes are base64 in JSON
+		}
+		for i := range v.Len() {
+			escapeInvalid(v.Index(i))
+		}
+	case reflect.Map:
+		for _, k := range v.MapKeys() {
+			e := reflect.New(v.Type().Elem()).Elem()
+			e.Set(v.MapIndex(k))
+			escapeInvalid(e)
+			v.SetMapIndex(k, e)
+		}
+	}
 }
 
 func renderInspect(w io.Writer, res ingest.Result) {

@@ -148,3 +148,17 @@ func TestOddNamesAreQuoted(t *testing.T) {
 		t.Errorf("names not quoted:\n%q", all)
 	}
 }
+
+// A file name that is not UTF-8 keeps every byte in JSON, each invalid
+// byte written as \xNN.
+func TestJSONKeepsNamesExact(t *testing.T) {
+	dir := t.TempDir()
+	os.WriteFile(filepath.Join(dir, "caf\xe9.fit"), []byte("not a ride"), 0o644)
+	var b bytes.Buffer
+	synth.WriteFIT(&b, synth.FieldRide(athlete, time.Date(2026, 4, 1, 9, 0, 0, 0, time.UTC), 30, []int{300}, 1))
+	os.WriteFile(filepath.Join(dir, "ok.fit"), b.Bytes(), 0o644)
+	code, out, _ := runCmd(t, "inspect", dir, "--json", "--no-store")
+	if code != exitOK || !strings.Contains(out, `caf\\xe9.fit`) || strings.Contains(out, "\ufffd") {
+		t.Errorf("exit %d:\n%s", code, out)
+	}
+}
