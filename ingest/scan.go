@@ -2,7 +2,6 @@ package ingest
 
 import (
 	"errors"
-	"fmt"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -195,7 +194,7 @@ func walk(dir string, st os.FileInfo, visited map[fileKey]bool, add func(string)
 	}
 	entries, err := os.ReadDir(dir)
 	if err != nil {
-		*skipped = append(*skipped, Skipped{dir, fmt.Sprintf("folder not readable: %v", unwrapPathError(err))})
+		*skipped = append(*skipped, Skipped{dir, "folder not readable: " + pathReason(dir, err)})
 		return
 	}
 	for _, e := range entries {
@@ -205,7 +204,7 @@ func walk(dir string, st os.FileInfo, visited map[fileKey]bool, add func(string)
 		p := filepath.Join(dir, e.Name())
 		est, err := os.Stat(p) // follows links
 		if err != nil {
-			if IsRideName(e.Name()) || e.Type()&os.ModeSymlink != 0 {
+			if IsRideName(e.Name()) || e.IsDir() || e.Type()&os.ModeSymlink != 0 {
 				*skipped = append(*skipped, Skipped{p, pathReason(p, err)})
 			}
 			continue

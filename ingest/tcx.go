@@ -9,6 +9,7 @@ import (
 	"strconv"
 	"strings"
 	"time"
+	"unicode/utf8"
 )
 
 // decodeTCX streams a Training Center Database (v2) file token by token, so
@@ -17,6 +18,7 @@ import (
 func decodeTCX(r io.Reader, opts Options) ([]Ride, error) {
 	d := xml.NewDecoder(&tokenCap{r: r})
 	d.Strict = true
+	d.CharsetReader = charsetReader
 	total := 0
 
 	var (
@@ -185,4 +187,32 @@ func (c *tokenCap) Read(p []byte) (int, error) {
 		}
 	}
 	return n, err
+}
+
+// charsetReader reads the single-byte character sets ride files declare
+// (Latin-1 and its Windows cousin, ASCII) as UTF-8; names and numbers are
+// all a ride needs from them. Any other set is refused in plain words.
+func charsetReader(charset string, r io.Reader) (io.Reader, error) {
+	switch strings.ToLower(strings.ReplaceAll(charset, "_", "-")) {
+	case "iso-8859-1", "latin1", "latin-1", "windows-1252", "cp1252", "us-ascii", "ascii":
+		return latin1{r}, nil
+	}
+	return nil, fmt.Errorf("the file declares the character set %q, which sustain does not read", charset)
+}
+
+// latin1 turns single bytes into their code points, as UTF-8 (at most two
+// bytes each, so it reads at most half of p).
+type latin1 struct{ r io.Reader }
+
+func (l latin1) Read(p []byte) (int, error) {
+	if len(p) < 2 {
+		return 0, io.ErrShortBuffer
+	}
+	buf := make([]byte, len(p)/2)
+	n, err := l.r.Read(buf)
+	out := p[:0]
+	for _, b := range buf[:n] {
+		out = utf8.AppendRune(out, rune(b))
+	}
+	return len(out), err
 }
