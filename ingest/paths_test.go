@@ -50,3 +50,27 @@ func TestOddPathsAreSkippedNotHung(t *testing.T) {
 		t.Errorf("ReadFile on a pipe: %v", err)
 	}
 }
+
+// A ride 500 folders deep, past the longest path the system opens, is
+// listed as skipped with the reason, not dropped without a line.
+func TestTooDeepIsListed(t *testing.T) {
+	top := t.TempDir()
+	t.Chdir(top)
+	for range 500 {
+		if err := os.Mkdir("folder0123", 0o755); err != nil {
+			t.Skip("cannot nest folders here:", err)
+		}
+		if err := os.Chdir("folder0123"); err != nil {
+			t.Skip(err)
+		}
+	}
+	os.WriteFile("deep.fit", []byte("x"), 0o644)
+	res := ingest.Scan([]string{top}, ingest.Options{})
+	found := false
+	for _, s := range res.Skipped {
+		found = found || strings.Contains(s.Reason, "too long")
+	}
+	if !found {
+		t.Errorf("nothing says the deep folder could not be reached: %+v", res.Skipped)
+	}
+}
