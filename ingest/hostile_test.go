@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -176,5 +177,61 @@ func TestTCXCharsets(t *testing.T) {
 	_, err := ingest.Read(strings.NewReader(other), "k.tcx", time.Time{}, ingest.Options{})
 	if err == nil || strings.Contains(err.Error(), "CharsetReader") || !strings.Contains(err.Error(), "KOI8-R") {
 		t.Errorf("KOI8-R: %v", err)
+	}
+}
+
+// The real device files read as ../shared/realfit/README.md says they
+// should, by the tolerant reader.
+func TestRealFITOutcomes(t *testing.T) {
+	dir := realFit(t)
+	for _, c := range []struct {
+		file     string
+		anySport bool
+		maxW     float64 // a ride with this highest power; 0: skipped
+		reason   string
+	}{
+		{"power-road.fit", false, 619, ""},
+		{"power-long-pauses.fit", false, 648, ""},
+		{"power-devdata-no-app-id.fit", false, 662, ""},
+		{"power-null-compressed-speed.fit", false, 691, ""},
+		{"power-indoor-trainer.fit", false, 331, ""},
+		{"devfield-power-indoor.fit", false, 0, "sport is fitnessequipment"},
+		{"devfield-power-indoor.fit", true, -1, ""},
+		{"run-power-and-devfields.fit", false, 0, "sport is running"},
+		{"run-power-and-devfields.fit", true, 314, ""},
+		{"ride-misaligned-fields.fit", false, 0, "no power data"},
+		{"cut-mid-record-zero-power.fit", false, 0, "no power data"},
+		{"run-short-undefined-local.fit", true, 0, "no power data"},
+		{"run-unexpected-eof.fit", true, 0, "no power data"},
+		{"chained-activity-settings.fit", true, 0, "no power data"},
+		{"chained-two-activities-crc.fit", true, 0, "no power data"},
+		{"multisport-large.fit", false, 0, "session 1: no power data"},
+		{"no-timestamps.fit", true, 0, "no timestamped records"},
+		{"monitoring.fit", false, 0, "not an activity (file type monitoringb)"},
+		{"settings-1.fit", false, 0, "not an activity (file type settings)"},
+		{"run-bad-crc.fit", true, 0, "checksum does not match"},
+	} {
+		rides, err := ingest.ReadFile(filepath.Join(dir, c.file), ingest.Options{AnySport: c.anySport})
+		switch {
+		case c.maxW == 0:
+			if err == nil || !strings.Contains(err.Error(), c.reason) {
+				t.Errorf("%s (any sport %v): %v, want %q", c.file, c.anySport, err, c.reason)
+			}
+		case err != nil:
+			t.Errorf("%s: %v", c.file, err)
+		default:
+			top := 0.0
+			for _, w := range rides[0].PowerW {
+				top = max(top, w)
+			}
+			// the README's highest value is the file's; cleaning may have
+			// taken it out as a spike (then the quality report counts it)
+			if c.maxW > 0 && (top > c.maxW+0.5 || (math.Abs(top-c.maxW) > 0.5 && rides[0].Quality.SpikesRemoved == 0)) {
+				t.Errorf("%s: highest power %.0f W, want %.0f", c.file, top, c.maxW)
+			}
+			if c.maxW < 0 && (top <= 0 || !strings.Contains(strings.Join(rides[0].Quality.Notes, ";"), "developer field")) {
+				t.Errorf("%s: power from the developer field: top %.0f W, notes %v", c.file, top, rides[0].Quality.Notes)
+			}
+		}
 	}
 }

@@ -9,6 +9,7 @@
 }
 END {
 	printf "\n"
+	printf "FIT library decode / tolerant reader:    %.1fx (target >= 15x)\n", ns["BenchmarkFITDecode"] / ns["BenchmarkFITReader"]
 	printf "ingest / bare FIT decode, one 3-h file:  %.2f (target <= 1.15)\n", ns["BenchmarkIngestFIT"] / ns["BenchmarkFITDecode"]
 	printf "scan / bare FIT decode, 100 files:       %.2f (target <= 1.25)\n", ns["BenchmarkScanNoStore"] / ns["BenchmarkBareFITDecode"]
 	printf "  the same with the rides' curves:       %.2f\n", ns["BenchmarkScanNoStoreWithCurves"] / ns["BenchmarkBareFITDecode"]
