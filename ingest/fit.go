@@ -138,4 +138,3 @@ func dropWildTimes(samples []Sample) ([]Sample, int) {
 	}
 	return kept, len(samples) - len(kept)
 }
-
