@@ -29,7 +29,7 @@ demo:
 
 # a short run of each fuzz test (crashers land in the package's testdata/fuzz)
 fuzz:
-	for f in FuzzTCX FuzzCSV FuzzFIT FuzzClean; do $(GO) test ./ingest -run '^$$' -fuzz "^$$f$$" -fuzztime 30s || exit 1; done
+	for f in FuzzTCX FuzzGPX FuzzCSV FuzzFIT FuzzClean; do $(GO) test ./ingest -run '^$$' -fuzz "^$$f$$" -fuzztime 30s || exit 1; done
 	$(GO) test ./lactate -run "^$$" -fuzz "^FuzzReadSteps$$" -fuzztime 30s
 	$(GO) test ./internal/store -run "^$$" -fuzz "^FuzzStoredRow$$" -fuzztime 30s
 

@@ -49,6 +49,15 @@ func FuzzTCX(f *testing.F) {
 	f.Fuzz(func(t *testing.T, data []byte) { readNoPanic(t, "f.tcx", data) })
 }
 
+func FuzzGPX(f *testing.F) {
+	var buf bytes.Buffer
+	synth.WriteGPX(&buf, synth.Build(start, []synth.Segment{{Seconds: 5, Watts: 200}}, 0, 1))
+	f.Add(buf.Bytes())
+	f.Add([]byte(`<gpx><trk><trkseg><trkpt><time>2026-01-01T00:00:00Z</time><extensions><power>1</power></extensions></trkpt></trkseg></trk></gpx>`))
+	addSeeds(f, ".gpx")
+	f.Fuzz(func(t *testing.T, data []byte) { readNoPanic(t, "f.gpx", data) })
+}
+
 func FuzzCSV(f *testing.F) {
 	f.Add([]byte("time,power\n0,100\n1,200\n"))
 	f.Add([]byte("timestamp;watts\n2026-01-01T00:00:00Z;100\n"))

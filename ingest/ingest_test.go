@@ -28,6 +28,8 @@ func encode(t testing.TB, format string, tr synth.Track) []byte {
 		err = synth.WriteFIT(&buf, tr)
 	case "tcx":
 		err = synth.WriteTCX(&buf, tr)
+	case "gpx":
+		err = synth.WriteGPX(&buf, tr)
 	case "csv":
 		err = synth.WriteCSV(&buf, tr)
 	}
@@ -70,7 +72,7 @@ func TestFormatsAgree(t *testing.T) {
 		tr.Skip[i] = true
 	}
 	var ref *ingest.Ride
-	for _, format := range []string{"fit", "tcx", "csv"} {
+	for _, format := range []string{"fit", "tcx", "gpx", "csv"} {
 		data := encode(t, format, tr)
 		for _, compressed := range []bool{false, true} {
 			name := "ride." + format

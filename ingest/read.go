@@ -56,6 +56,7 @@ const (
 	FormatFIT Format = "fit"
 	FormatTCX Format = "tcx"
 	FormatCSV Format = "csv"
+	FormatGPX Format = "gpx"
 )
 
 var errTooLarge = errors.New("decompressed size is over the limit (a gzip bomb?)")
@@ -148,6 +149,8 @@ func Read(r io.Reader, name string, fallbackStart time.Time, opts Options) (ride
 		rides, err = decodeFIT(br, opts)
 	case FormatTCX:
 		rides, err = decodeTCX(br, opts)
+	case FormatGPX:
+		rides, err = decodeGPX(br, opts)
 	default:
 		rides, err = decodeCSV(br, fallbackStart, opts)
 	}
@@ -168,6 +171,9 @@ func sniff(br *bufio.Reader, name string) (Format, error) {
 	}
 	trimmed := bytes.TrimLeft(bytes.TrimPrefix(head, []byte("\xef\xbb\xbf")), " \t\r\n")
 	if len(trimmed) > 0 && trimmed[0] == '<' {
+		if bytes.Contains(head, []byte("<gpx")) {
+			return FormatGPX, nil
+		}
 		return FormatTCX, nil
 	}
 	if looksLikeText(head) {
@@ -212,8 +218,9 @@ func startFromName(path string) time.Time {
 	return t
 }
 
-// IsRideName reports whether a file name looks like a ride file: .fit, .tcx
-// or .csv, optionally followed by .gz, in any case. Hidden files are not.
+// IsRideName reports whether a file name looks like a ride file: .fit,
+// .tcx, .gpx or .csv, optionally followed by .gz, in any case. Hidden files
+// are not.
 func IsRideName(name string) bool {
 	base := strings.ToLower(filepath.Base(name))
 	if strings.HasPrefix(base, ".") {
@@ -221,7 +228,7 @@ func IsRideName(name string) bool {
 	}
 	base = strings.TrimSuffix(base, ".gz")
 	switch filepath.Ext(base) {
-	case ".fit", ".tcx", ".csv":
+	case ".fit", ".tcx", ".gpx", ".csv":
 		return true
 	}
 	return false

@@ -118,6 +118,8 @@ func WriteSeason(dir string, files []SeasonFile) error {
 			err = WriteFIT(&buf, f.Track)
 		case ".tcx":
 			err = WriteTCX(&buf, f.Track)
+		case ".gpx":
+			err = WriteGPX(&buf, f.Track)
 		default:
 			err = WriteCSV(&buf, f.Track)
 		}
