@@ -6,18 +6,21 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"regexp"
 	"strconv"
 	"strings"
 	"time"
+	"unicode"
 )
 
 // Column names recognised in a CSV header, case-insensitive, in order of
 // preference.
 var (
-	csvTimeNames    = []string{"seconds", "secs", "time", "elapsed", "elapsed_s", "timestamp"}
-	csvPowerNames   = []string{"power", "watts", "pwr", "power_w"}
-	csvHRNames      = []string{"heart_rate", "heartrate", "hr", "heart_rate_bpm", "bpm"}
+	csvTimeNames    = []string{"seconds", "secs", "time", "elapsed", "elapsed_s", "timestamp", "time_s", "elapsed_time", "elapsed_time_s", "secs_s"}
+	csvPowerNames   = []string{"power", "watts", "pwr", "power_w", "watts_w"}
+	csvHRNames      = []string{"heart_rate", "heartrate", "hr", "heart_rate_bpm", "bpm", "hr_bpm"}
 	csvCadenceNames = []string{"cadence", "cad", "rpm", "cadence_rpm"}
+	csvDateNames    = []string{"date", "start", "start_time", "date_time"}
 )
 
 // Bounds of a CSV ride: a line longer than MaxCSVLineBytes is no row of a
@@ -123,10 +126,12 @@ func decodeCSV(r io.Reader, fallbackStart time.Time, opts Options) ([]Ride, erro
 	}
 	header := splitCSV(headerLine, delim)
 	cols := map[string]int{}
-	for i, h := range header {
-		key := strings.ToLower(strings.Trim(strings.TrimSpace(h), `"`))
-		if _, dup := cols[key]; !dup {
-			cols[key] = i
+	for _, bare := range []bool{false, true} { // names with their units first
+		for i, h := range header {
+			key := headerKey(h, bare)
+			if _, dup := cols[key]; key != "" && !dup {
+				cols[key] = i
+			}
 		}
 	}
 	find := func(names []string) int {
@@ -137,7 +142,12 @@ func decodeCSV(r io.Reader, fallbackStart time.Time, opts Options) ([]Ride, erro
 		}
 		return -1
 	}
-	tCol, pCol, hCol, cCol := find(csvTimeNames), find(csvPowerNames), find(csvHRNames), find(csvCadenceNames)
+	tCol, pCol, hCol, cCol, dCol := find(csvTimeNames), find(csvPowerNames), find(csvHRNames), find(csvCadenceNames), find(csvDateNames)
+	// a decimal comma where the separator is not a comma (250,5 W)
+	num := parseNumber
+	if delim != ',' {
+		num = func(v string) float64 { return parseNumber(strings.Replace(v, ",", ".", 1)) }
+	}
 	if pCol < 0 {
 		return nil, fmt.Errorf("CSV has no power column (looked for %s)", strings.Join(csvPowerNames, ", "))
 	}
@@ -157,6 +167,8 @@ func decodeCSV(r io.Reader, fallbackStart time.Time, opts Options) ([]Ride, erro
 		row       int
 		base      = float64(fallbackStart.Unix())
 		truncated bool
+		dated     bool // by a date column
+		dateLoc   *time.Location
 	)
 	for sc.Scan() {
 		line := sc.Text()
@@ -168,18 +180,27 @@ func decodeCSV(r io.Reader, fallbackStart time.Time, opts Options) ([]Ride, erro
 			return nil, fmt.Errorf("more than %d rows: not the recording of a ride", MaxSamples)
 		}
 		rec := splitCSV(line, delim)
-		s := Sample{Power: parseNumber(field(rec, pCol)), HeartRate: math.NaN(), Cadence: math.NaN()}
+		if dCol >= 0 && !dated {
+			// a date (and time) column dates elapsed times
+			if d, ok := parseDate(field(rec, dCol)); ok {
+				base, dated, dateLoc = unixSeconds(d), true, d.Location()
+			}
+		}
+		s := Sample{Power: num(field(rec, pCol)), HeartRate: math.NaN(), Cadence: math.NaN()}
 		if hCol >= 0 {
-			s.HeartRate = parseNumber(field(rec, hCol))
+			s.HeartRate = num(field(rec, hCol))
 		}
 		if cCol >= 0 {
-			s.Cadence = parseNumber(field(rec, cCol))
+			s.Cadence = num(field(rec, cCol))
 		}
 		if tCol < 0 {
 			s.UnixS = base + float64(row-1)
 		} else {
 			v := field(rec, tCol)
-			if x, err := strconv.ParseFloat(v, 64); err == nil && !math.IsNaN(x) && !math.IsInf(x, 0) {
+			if x := num(v); !math.IsNaN(x) && !math.IsInf(x, 0) {
+				relative = true
+				s.UnixS = base + x
+			} else if x, ok := clockSeconds(v); ok {
 				relative = true
 				s.UnixS = base + x
 			} else if tm, err := time.Parse(time.RFC3339Nano, v); err == nil {
@@ -210,7 +231,9 @@ func decodeCSV(r io.Reader, fallbackStart time.Time, opts Options) ([]Ride, erro
 	}
 	if loc == nil {
 		loc = time.UTC
-		if !fallbackStart.IsZero() {
+		if dated {
+			loc = dateLoc
+		} else if !fallbackStart.IsZero() {
 			loc = fallbackStart.Location()
 		}
 	}
@@ -226,7 +249,9 @@ func decodeCSV(r io.Reader, fallbackStart time.Time, opts Options) ([]Ride, erro
 	if badTimes > 0 {
 		ride.Quality.Notes = append(ride.Quality.Notes, fmt.Sprintf("%d rows without a valid time were dropped", badTimes))
 	}
-	if !absolute {
+	if !absolute && dated {
+		ride.Quality.Notes = append(ride.Quality.Notes, "dated by the file's date column")
+	} else if !absolute {
 		ride.Quality.DatedByFallback = true
 		ride.Quality.FallbackOffsetS = ride.Start.Sub(fallbackStart).Seconds()
 		if fallbackStart.IsZero() {
@@ -247,4 +272,57 @@ func csvReadError(err error, line int) error {
 		return errTooLarge
 	}
 	return fmt.Errorf("CSV line %d cannot be read (%v)", line, err)
+}
+
+// headerKey normalises a CSV column name: lower case, punctuation as "_",
+// a unit in brackets kept as a suffix ("Power (W)" → "power_w") or, with
+// bare, dropped ("power").
+func headerKey(h string, bare bool) string {
+	h = strings.ToLower(strings.Trim(strings.TrimSpace(h), `"`))
+	if bare {
+		h = bracketed.ReplaceAllString(h, "")
+	}
+	var b strings.Builder
+	for _, r := range h {
+		if unicode.IsLetter(r) || unicode.IsDigit(r) {
+			b.WriteRune(r)
+		} else {
+			b.WriteRune('_')
+		}
+	}
+	return strings.Trim(runsOfUnderscores.ReplaceAllString(b.String(), "_"), "_")
+}
+
+var (
+	bracketed         = regexp.MustCompile(`[\(\[][^\)\]]*[\)\]]`)
+	runsOfUnderscores = regexp.MustCompile(`_+`)
+)
+
+// clockSeconds reads an elapsed time written H:MM:SS or MM:SS (with an
+// optional fraction of a second).
+func clockSeconds(v string) (float64, bool) {
+	parts := strings.Split(v, ":")
+	if len(parts) < 2 || len(parts) > 3 {
+		return 0, false
+	}
+	total := 0.0
+	for i, p := range parts {
+		x, err := strconv.ParseFloat(strings.Replace(p, ",", ".", 1), 64)
+		if err != nil || x < 0 || (i > 0 && x >= 60) || (i < len(parts)-1 && x != math.Trunc(x)) {
+			return 0, false
+		}
+		total = total*60 + x
+	}
+	return total, true
+}
+
+// parseDate reads a date column: 2026-03-14, or a date and time (RFC 3339,
+// or "2026-03-14 08:30:00" taken as UTC).
+func parseDate(v string) (time.Time, bool) {
+	for _, layout := range []string{time.RFC3339Nano, "2006-01-02 15:04:05", "2006-01-02T15:04:05", "2006-01-02"} {
+		if t, err := time.Parse(layout, v); err == nil {
+			return t, true
+		}
+	}
+	return time.Time{}, false
 }

@@ -235,3 +235,32 @@ func TestRealFITOutcomes(t *testing.T) {
 		}
 	}
 }
+
+// CSV layouts people write: semicolons with decimal commas, H:MM:SS and
+// MM:SS elapsed times, headers with units and spaces, a date column.
+func TestCSVLayouts(t *testing.T) {
+	for name, c := range map[string]struct {
+		body  string
+		date  string
+		watts float64
+	}{
+		"semicolons, decimal commas": {"Time (s);Power (W);HR (bpm)\n0;250,5;120\n1;251,5;121\n2;252,5;122\n", "2026-01-02", 251.5},
+		"H:MM:SS":                    {"elapsed,watts\n0:00:00,200\n0:00:01,210\n0:00:02,220\n", "2026-01-02", 210},
+		"MM:SS and Watts [W]":        {"time,Watts [W]\n00:00,200\n00:01,210\n00:02,220\n", "2026-01-02", 210},
+		"a date column":              {"date,secs,power\n2025-07-14,0,300\n2025-07-14,1,300\n2025-07-14,2,300\n", "2025-07-14", 300},
+	} {
+		rides, err := ingest.Read(strings.NewReader(c.body), "x.csv", time.Date(2026, 1, 2, 0, 0, 0, 0, time.UTC), ingest.Options{})
+		if err != nil {
+			t.Errorf("%s: %v", name, err)
+			continue
+		}
+		r := rides[0]
+		mean := 0.0
+		for _, w := range r.PowerW {
+			mean += w / float64(len(r.PowerW))
+		}
+		if r.Seconds() != 3 || math.Abs(mean-c.watts) > 1e-9 || r.Date() != c.date {
+			t.Errorf("%s: %d s, mean %.2f W, dated %s", name, r.Seconds(), mean, r.Date())
+		}
+	}
+}
