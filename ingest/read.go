@@ -86,15 +86,11 @@ func (c *capReader) Read(p []byte) (int, error) {
 
 // ReadFile reads every ride in the file at path. Errors are *FileError.
 func ReadFile(path string, opts Options) ([]Ride, error) {
-	f, err := openRegular(path)
+	f, mtime, err := open(path)
 	if err != nil {
 		return nil, &FileError{path, err}
 	}
 	defer f.Close()
-	var mtime time.Time
-	if st, err := f.Stat(); err == nil {
-		mtime = st.ModTime()
-	}
 	fallback := FallbackStart(path, mtime)
 	rides, err := Read(f, path, fallback, opts)
 	if err != nil {
@@ -168,6 +164,9 @@ func sniff(br *bufio.Reader, name string) (Format, error) {
 	head, _ := br.Peek(512)
 	if len(head) >= 12 && (head[0] == 12 || head[0] == 14) && string(head[8:12]) == ".FIT" {
 		return FormatFIT, nil
+	}
+	if ext := strings.ToLower(filepath.Ext(strings.TrimSuffix(strings.ToLower(name), ".gz"))); ext == ".fit" {
+		return "", errors.New("not a FIT file (no FIT header)")
 	}
 	trimmed := bytes.TrimLeft(bytes.TrimPrefix(head, []byte("\xef\xbb\xbf")), " \t\r\n")
 	if len(trimmed) > 0 && trimmed[0] == '<' {
@@ -282,11 +281,28 @@ func sportAccepted(sport string, opts Options) bool {
 	return opts.AnySport || sport == "cycling" || sport == "unknown"
 }
 
+// open opens a plain file or an archive member (ARCHIVE:MEMBER), with its
+// modification time.
+func open(p string) (io.ReadCloser, time.Time, error) {
+	if archive, member, ok := splitMember(p); ok {
+		return openMember(archive, member)
+	}
+	f, err := openRegular(p)
+	if err != nil {
+		return nil, time.Time{}, err
+	}
+	var mtime time.Time
+	if st, err := f.Stat(); err == nil {
+		mtime = st.ModTime()
+	}
+	return f, mtime, nil
+}
+
 // HashFile is the SHA-256 of a file's bytes, read as a stream within the
 // same 1-GiB bound as ReadFile (never held in memory); an error is the
 // reason alone (the caller names the file).
 func HashFile(path string) (string, error) {
-	f, err := openRegular(path)
+	f, _, err := open(path)
 	if err != nil {
 		return "", err
 	}

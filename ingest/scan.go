@@ -159,12 +159,15 @@ func ListFiles(paths []string) ([]string, []Skipped) {
 			continue
 		}
 		if !st.IsDir() {
-			if !st.Mode().IsRegular() {
+			switch {
+			case !st.Mode().IsRegular():
 				// a pipe or a device would hang the run or never end
 				skipped = append(skipped, Skipped{p, "not a regular file (a pipe, device or socket): not read"})
-				continue
+			case IsArchiveName(p):
+				addArchive(p, add, &skipped)
+			default:
+				add(p)
 			}
-			add(p)
 			continue
 		}
 		visited := map[fileKey]bool{}
@@ -172,6 +175,18 @@ func ListFiles(paths []string) ([]string, []Skipped) {
 	}
 	sort.Strings(files)
 	return files, skipped
+}
+
+// addArchive lists an archive's ride members, or skips it with the reason.
+func addArchive(p string, add func(string), skipped *[]Skipped) {
+	members, why := archiveMembers(p)
+	if why != "" {
+		*skipped = append(*skipped, Skipped{p, why})
+		return
+	}
+	for _, m := range members {
+		add(m)
+	}
 }
 
 type fileKey struct{ dev, ino uint64 }
@@ -212,6 +227,8 @@ func walk(dir string, st os.FileInfo, visited map[fileKey]bool, add func(string)
 		switch {
 		case est.IsDir():
 			walk(p, est, visited, add, skipped)
+		case est.Mode().IsRegular() && IsArchiveName(e.Name()):
+			addArchive(p, add, skipped)
 		case !IsRideName(e.Name()):
 		case est.Mode().IsRegular():
 			add(p)

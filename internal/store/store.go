@@ -357,8 +357,8 @@ func (s *Store) scan(paths []string, opts ingest.Options) (ingest.Result, []powe
 	es := make([]entry, len(files))
 	for i, p := range files {
 		es[i].path = p
-		if fi, err := os.Stat(p); err == nil {
-			es[i].size, es[i].mtime = fi.Size(), fi.ModTime().UnixNano()
+		if size, mtime, err := ingest.StatFile(p); err == nil {
+			es[i].size, es[i].mtime = size, mtime.UnixNano()
 		}
 	}
 	if err := s.lookupHashes(es); err != nil {
