@@ -17,6 +17,16 @@ type Skipped struct {
 	Reason string `json:"reason"`
 }
 
+// Duplicate is a ride left out as a copy of another: the same ride
+// recorded twice (a head unit's file and the service's copy of it), or a
+// file and a link or copy of it (see powerduration.Duplicates).
+type Duplicate struct {
+	File    string `json:"file"`
+	Session int    `json:"session"`
+	Kept    string `json:"kept"`
+	Why     string `json:"why"`
+}
+
 // Result is what a scan found: rides in order (start time, then path, then
 // session) and the files it had to skip.
 type Result struct {
@@ -25,6 +35,8 @@ type Result struct {
 	// Read, when above len(Rides), is how many rides were read before a
 	// caller filtered Rides.
 	Read int
+	// Duplicates are the rides left out as copies of others.
+	Duplicates []Duplicate
 }
 
 // Scan reads every ride under paths. A path may be a file (read whatever its

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"archive/zip"
 	"bytes"
 	"compress/gzip"
 	"encoding/json"
@@ -112,4 +113,56 @@ func gzipped(b []byte) []byte {
 	w.Write(b)
 	w.Close()
 	return z.Bytes()
+}
+
+// A rider points sustain at the archive their service exported, beside a
+// copy of one ride: every ride with power is read once; inspect says per
+// archive how many members were rides, skipped or duplicates.
+func TestExportArchiveOnce(t *testing.T) {
+	dir := t.TempDir()
+	day := time.Date(2026, 3, 2, 8, 0, 0, 0, time.UTC)
+	var fitB, gpxB, tcxB bytes.Buffer
+	one := synth.FieldRide(athlete, day, 40, []int{300}, 1)
+	synth.WriteFIT(&fitB, one)
+	synth.WriteGPX(&gpxB, one)
+	synth.WriteTCX(&tcxB, synth.FieldRide(athlete, day.AddDate(0, 0, 2), 40, []int{180}, 2))
+	f, _ := os.Create(filepath.Join(dir, "export.zip"))
+	zw := zip.NewWriter(f)
+	for name, b := range map[string][]byte{
+		"activities/1.fit": fitB.Bytes(), "activities/1.gpx": gpxB.Bytes(), "activities/2.tcx.gz": gzipped(tcxB.Bytes()),
+		"activities/3.fit": []byte("damaged"), "profile.json": []byte("{}"),
+	} {
+		w, _ := zw.Create(name)
+		w.Write(b)
+	}
+	zw.Close()
+	f.Close()
+	os.WriteFile(filepath.Join(dir, "2026-03-02-ride.fit"), fitB.Bytes(), 0o644) // the same ride, from the head unit
+	code, out, errs := runCmd(t, "inspect", dir, "--json", "--no-store")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var js struct {
+		Rides      int `json:"rides"`
+		Duplicates []struct {
+			File, Kept, Why string
+		} `json:"duplicates"`
+		Archives []struct {
+			Archive                     string
+			Rides, Skipped, Duplicates int
+		} `json:"archives"`
+		Skipped []struct{ File, Reason string } `json:"skipped"`
+	}
+	if err := json.Unmarshal([]byte(out), &js); err != nil {
+		t.Fatal(err)
+	}
+	if js.Rides != 2 || len(js.Duplicates) != 2 || len(js.Skipped) != 1 || !strings.HasSuffix(js.Skipped[0].File, "export.zip:activities/3.fit") {
+		t.Errorf("rides %d, duplicates %+v, skipped %+v", js.Rides, js.Duplicates, js.Skipped)
+	}
+	if len(js.Archives) != 1 || js.Archives[0].Skipped != 1 || js.Archives[0].Rides+js.Archives[0].Duplicates != 3 {
+		t.Errorf("archives %+v", js.Archives)
+	}
+	if code, out, _ := runCmd(t, "inspect", dir, "--json", "--no-store", "--keep-duplicates"); code != exitOK || !strings.Contains(out, `"rides": 4`) {
+		t.Errorf("--keep-duplicates: %d\n%.300s", code, out)
+	}
 }

@@ -40,6 +40,12 @@ func inspectCommand() *cli.Command {
 				}
 			} else {
 				renderInspect(c.App.Writer, res)
+				for _, d := range res.Duplicates {
+					fmt.Fprintf(c.App.Writer, "duplicate %s: left out, the same ride as %s (%s)\n", shown(d.File), shown(d.Kept), d.Why)
+				}
+				for _, a := range out.Archives {
+					fmt.Fprintf(c.App.Writer, "archive %s: %d rides, %d skipped, %d duplicates\n", shown(a.Archive), a.Rides, a.Skipped, a.Duplicates)
+				}
 				if out.Store != nil {
 					fmt.Fprintf(c.App.Writer, "store %s: %d files answered from it, %d decoded\n", out.Store.Path, out.Store.Cached, out.Store.Decoded)
 				}
@@ -64,17 +70,71 @@ type storeOut struct {
 	Cached  int    `json:"from_store"`
 }
 
+// archiveOut counts, per archive, its ride members read, skipped and left
+// out as duplicates.
+type archiveOut struct {
+	Archive    string `json:"archive"`
+	Rides      int    `json:"rides"`
+	Skipped    int    `json:"skipped"`
+	Duplicates int    `json:"duplicates"`
+}
+
 type inspectOut struct {
-	Store   *storeOut        `json:"store,omitempty"`
-	Rides   int              `json:"rides"`
-	Skipped []ingest.Skipped `json:"skipped"`
-	Quality []rideReport     `json:"quality"`
+	Store      *storeOut          `json:"store,omitempty"`
+	Rides      int                `json:"rides"`
+	Skipped    []ingest.Skipped   `json:"skipped"`
+	Duplicates []ingest.Duplicate `json:"duplicates"`
+	Archives   []archiveOut       `json:"archives"`
+	Quality    []rideReport       `json:"quality"`
+}
+
+// archiveOf is the archive part of ARCHIVE:MEMBER, or "".
+func archiveOf(file string) string {
+	if i := strings.Index(strings.ToLower(file), ".zip:"); i >= 0 {
+		return file[:i+len(".zip")]
+	}
+	return ""
+}
+
+func archiveCounts(res ingest.Result) []archiveOut {
+	var out []archiveOut
+	at := map[string]int{}
+	count := func(file string, f func(*archiveOut)) {
+		a := archiveOf(file)
+		if a == "" {
+			return
+		}
+		i, ok := at[a]
+		if !ok {
+			i = len(out)
+			at[a] = i
+			out = append(out, archiveOut{Archive: a})
+		}
+		f(&out[i])
+	}
+	for _, r := range res.Rides {
+		count(r.File, func(a *archiveOut) { a.Rides++ })
+	}
+	for _, s := range res.Skipped {
+		count(s.File, func(a *archiveOut) { a.Skipped++ })
+	}
+	for _, d := range res.Duplicates {
+		count(d.File, func(a *archiveOut) { a.Duplicates++ })
+	}
+	return out
 }
 
 func inspectJSON(res ingest.Result) inspectOut {
-	out := inspectOut{Rides: max(len(res.Rides), res.Read), Skipped: res.Skipped, Quality: []rideReport{}}
+	out := inspectOut{Rides: max(len(res.Rides), res.Read), Skipped: res.Skipped, Duplicates: res.Duplicates,
+		Archives: archiveCounts(res), Quality: []rideReport{}}
 	if out.Skipped == nil {
 		out.Skipped = []ingest.Skipped{}
+	}
+	if out.Duplicates == nil {
+		out.Duplicates = []ingest.Duplicate{}
+	}
+	if out.Archives == nil {
+		out.Archives = []archiveOut{}
 	}
 	for _, r := range res.Rides {
 		out.Quality = append(out.Quality, rideReport{
@@ -95,7 +155,7 @@ func onlyProblems(res ingest.Result) ingest.Result {
 			keep = append(keep, r)
 		}
 	}
-	return ingest.Result{Rides: keep, Skipped: res.Skipped, Read: len(res.Rides)}
+	return ingest.Result{Rides: keep, Skipped: res.Skipped, Read: len(res.Rides), Duplicates: res.Duplicates}
 }
 
 // writeJSON writes v as indented JSON. A string that is not valid UTF-8

@@ -23,6 +23,7 @@ func ingestFlags() []cli.Flag {
 		&cli.IntFlag{Name: "workers", Usage: "files decoded at once (default: one per CPU)"},
 		&cli.StringFlag{Name: "store", Usage: "the store of decoded rides and curves (default: sustain/rides.db in your cache folder)"},
 		&cli.BoolFlag{Name: "no-store", Usage: "decode every file, neither reading nor writing the store"},
+		&cli.BoolFlag{Name: "keep-duplicates", Usage: "keep every copy of a ride recorded twice (by default the same ride from two files counts once)"},
 	}
 }
 
@@ -95,10 +96,35 @@ func closeStore(app *cli.App) {
 	}
 }
 
-// scanPaths reads the rides under paths and their curves, through the store
+// scanPaths reads the rides under paths and their curves (see scanAll),
+// each ride once: copies of one ride are left out, and listed in the
+// result's Duplicates (see powerduration.Duplicates), unless
+// --keep-duplicates.
+func scanPaths(c *cli.Context, paths []string) (ingest.Result, []powerduration.RideCurve, error) {
+	res, curves, err := scanAll(c, paths)
+	if err != nil || c.Bool("keep-duplicates") {
+		return res, curves, err
+	}
+	drop, dups := powerduration.Duplicates(res.Rides, curves)
+	if len(dups) == 0 {
+		return res, curves, nil
+	}
+	k := 0
+	for i := range res.Rides {
+		if !drop[i] {
+			res.Rides[k], curves[k] = res.Rides[i], curves[i]
+			k++
+		}
+	}
+	res.Rides, curves = res.Rides[:k], curves[:k]
+	res.Duplicates = dups
+	return res, curves, nil
+}
+
+// scanAll reads the rides under paths and their curves, through the store
 // unless --no-store, with a progress bar on stderr for long walks when
 // stderr is a terminal.
-func scanPaths(c *cli.Context, paths []string) (ingest.Result, []powerduration.RideCurve, error) {
+func scanAll(c *cli.Context, paths []string) (ingest.Result, []powerduration.RideCurve, error) {
 	opts, err := ingestOptions(c)
 	if err != nil {
 		return ingest.Result{}, nil, err
