@@ -148,7 +148,7 @@ func TestExportArchiveOnce(t *testing.T) {
 			File, Kept, Why string
 		} `json:"duplicates"`
 		Archives []struct {
-			Archive                     string
+			Archive                    string
 			Rides, Skipped, Duplicates int
 		} `json:"archives"`
 		Skipped []struct{ File, Reason string } `json:"skipped"`
