@@ -169,6 +169,25 @@ func readFIT(b []byte, maxRecords int) fitFile {
 	return f
 }
 
+// fieldDefs reads a count and that many 3-byte field definitions at i,
+// adding their sizes to size; ok false when the data ends first.
+func fieldDefs(data []byte, i int, size *int) (defs []fitFieldDef, next int, ok bool) {
+	if i >= len(data) {
+		return nil, i, false
+	}
+	n := int(data[i])
+	i++
+	if i+3*n > len(data) {
+		return nil, i, false
+	}
+	defs = make([]fitFieldDef, n)
+	for k := range n {
+		defs[k] = fitFieldDef{data[i+3*k], data[i+3*k+1], data[i+3*k+2]}
+		*size += int(defs[k].size)
+	}
+	return defs, i + 3*n, true
+}
+
 // devKey names a developer field: its data index and field number.
 type devKey struct{ index, num byte }
 
@@ -197,35 +216,17 @@ func (f *fitFile) segment(data []byte, maxRecords int) {
 			} else {
 				d.global = binary.LittleEndian.Uint16(data[i+2:])
 			}
-			n := int(data[i+4])
-			i += 5
-			if i+3*n > len(data) {
+			i += 4 // then the count of fields and their definitions
+			var ok bool
+			if d.fields, i, ok = fieldDefs(data, i, &d.size); !ok {
 				f.truncated = true
 				return
 			}
-			for k := range n {
-				fd := fitFieldDef{data[i+3*k], data[i+3*k+1], data[i+3*k+2]}
-				d.fields = append(d.fields, fd)
-				d.size += int(fd.size)
-			}
-			i += 3 * n
-			if h&0x20 != 0 {
-				if i >= len(data) {
+			if h&0x20 != 0 { // and developer fields
+				if d.dev, i, ok = fieldDefs(data, i, &d.size); !ok {
 					f.truncated = true
 					return
 				}
-				nd := int(data[i])
-				i++
-				if i+3*nd > len(data) {
-					f.truncated = true
-					return
-				}
-				for k := range nd {
-					fd := fitFieldDef{data[i+3*k], data[i+3*k+1], data[i+3*k+2]}
-					d.dev = append(d.dev, fd)
-					d.size += int(fd.size)
-				}
-				i += 3 * nd
 			}
 			d.offsets()
 			defs[h&0x0F] = d

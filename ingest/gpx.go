@@ -99,36 +99,12 @@ func decodeGPX(r io.Reader, opts Options) ([]Ride, error) {
 			case "trkpt":
 				inPoint = false
 				if ptTime {
-					if cur == nil {
-						trks = append(trks, session{sport: "unknown"})
-						cur = &trks[len(trks)-1]
+					if err := addPoint(&trks, &cur, pt, &total); err != nil {
+						return nil, err
 					}
-					if total++; total > MaxSamples {
-						return nil, fmt.Errorf("more than %d track points: not the recording of a ride", MaxSamples)
-					}
-					cur.samples = append(cur.samples, pt)
 				}
 			}
 		}
 	}
-	if errors.Is(decodeEr, errXMLTokenTooLong) {
-		return nil, decodeEr
-	}
-	if decodeEr != nil && !(opts.Salvage && len(trks) > 0) {
-		return nil, fmt.Errorf("malformed XML: %v", decodeEr)
-	}
-	if !sawGPX {
-		return nil, errors.New("XML file is not a GPX (no gpx element)")
-	}
-	if len(trks) == 0 {
-		return nil, errors.New("GPX file has no track")
-	}
-	rides, err := cleanSessions(trks, opts, loc)
-	if err != nil {
-		return nil, err
-	}
-	for i := range rides {
-		rides[i].Quality.Salvaged = decodeEr != nil
-	}
-	return rides, nil
+	return xmlRides(trks, sawGPX, decodeEr, errors.New("XML file is not a GPX (no gpx element)"), errors.New("GPX file has no track"), opts, loc)
 }

@@ -108,38 +108,14 @@ func decodeTCX(r io.Reader, opts Options) ([]Ride, error) {
 			case "Trackpoint":
 				inPoint = false
 				if ptTime {
-					if cur == nil {
-						acts = append(acts, session{sport: "unknown"})
-						cur = &acts[len(acts)-1]
+					if err := addPoint(&acts, &cur, pt, &total); err != nil {
+						return nil, err
 					}
-					if total++; total > MaxSamples {
-						return nil, fmt.Errorf("more than %d trackpoints: not the recording of a ride", MaxSamples)
-					}
-					cur.samples = append(cur.samples, pt)
 				}
 			}
 		}
 	}
-	if errors.Is(decodeEr, errXMLTokenTooLong) {
-		return nil, decodeEr
-	}
-	if decodeEr != nil && !(opts.Salvage && len(acts) > 0) {
-		return nil, fmt.Errorf("malformed XML: %v", decodeEr)
-	}
-	if !sawTCX {
-		return nil, errors.New("XML file is not a TCX (no TrainingCenterDatabase element)")
-	}
-	if len(acts) == 0 {
-		return nil, errors.New("TCX file has no activity")
-	}
-	rides, err := cleanSessions(acts, opts, loc)
-	if err != nil {
-		return nil, err
-	}
-	for i := range rides {
-		rides[i].Quality.Salvaged = decodeEr != nil
-	}
-	return rides, nil
+	return xmlRides(acts, sawTCX, decodeEr, errors.New("XML file is not a TCX (no TrainingCenterDatabase element)"), errors.New("TCX file has no activity"), opts, loc)
 }
 
 func tcxSport(s string) string {
@@ -215,4 +191,44 @@ func (l latin1) Read(p []byte) (int, error) {
 		out = utf8.AppendRune(out, rune(b))
 	}
 	return len(out), err
+}
+
+// addPoint adds a timed point to the current session (opening one when the
+// file has none), within MaxSamples points a file.
+func addPoint(parts *[]session, cur **session, pt Sample, total *int) error {
+	if *cur == nil {
+		*parts = append(*parts, session{sport: "unknown"})
+		*cur = &(*parts)[len(*parts)-1]
+	}
+	if *total++; *total > MaxSamples {
+		return fmt.Errorf("more than %d points: not the recording of a ride", MaxSamples)
+	}
+	(*cur).samples = append((*cur).samples, pt)
+	return nil
+}
+
+// xmlRides ends a streamed XML decode (TCX, GPX): the bounds' errors as
+// they are, a malformed file kept only with --salvage when something was
+// read (flagged), the root element required, the sessions cleaned.
+func xmlRides(parts []session, sawRoot bool, decodeEr, notRoot, none error, opts Options, loc *time.Location) ([]Ride, error) {
+	if errors.Is(decodeEr, errXMLTokenTooLong) {
+		return nil, decodeEr
+	}
+	if decodeEr != nil && !(opts.Salvage && len(parts) > 0) {
+		return nil, fmt.Errorf("malformed XML: %v", decodeEr)
+	}
+	if !sawRoot {
+		return nil, notRoot
+	}
+	if len(parts) == 0 {
+		return nil, none
+	}
+	rides, err := cleanSessions(parts, opts, loc)
+	if err != nil {
+		return nil, err
+	}
+	for i := range rides {
+		rides[i].Quality.Salvaged = decodeEr != nil
+	}
+	return rides, nil
 }
