@@ -87,7 +87,7 @@ func Shifts(as []Analysis) []Shift {
 	var out []Shift
 	for i := 1; i < len(as); i++ {
 		a, b := as[i-1], as[i]
-		s := Shift{From: label(a.Test), To: label(b.Test)}
+		s := Shift{From: a.Test.Label(), To: b.Test.Label()}
 		t2a, _ := a.Threshold(MethodLT2)
 		t2b, _ := b.Threshold(MethodLT2)
 		t4a, _ := a.Threshold(MethodOBLA4)
@@ -128,7 +128,8 @@ func Shifts(as []Analysis) []Shift {
 	return out
 }
 
-func label(t StepTest) string {
+// Label names a test by its date, else its name.
+func (t StepTest) Label() string {
 	if t.Date != "" {
 		return t.Date
 	}

@@ -103,6 +103,7 @@ type lactateTrialJSON struct {
 }
 
 type lactateMLSSJSON struct {
+	Date  string   `json:"date,omitempty"` // the latest trial's
 	PassW *float64 `json:"pass_w"`
 	FailW *float64 `json:"fail_w"`
 	MidW  *float64 `json:"mid_w"`
@@ -210,7 +211,7 @@ func lactateAction(c *cli.Context) error {
 		out.Trials = append(out.Trials, j)
 	}
 	if bracket != nil {
-		out.MLSS = &lactateMLSSJSON{PassW: finitePtr(bracket.PassW), FailW: finitePtr(bracket.FailW), MidW: finitePtr(bracket.MidW()),
+		out.MLSS = &lactateMLSSJSON{Date: trialDate(trials), PassW: finitePtr(bracket.PassW), FailW: finitePtr(bracket.FailW), MidW: finitePtr(bracket.MidW()),
 			Notes: append([]string{}, bracket.Notes...),
 			Rule:  fmt.Sprintf("a trial passes when lactate rises by no more than %.1f mmol/L from minute 10 to 30 (Heck et al. 1985; Beneke 2003)", lactate.MLSSRiseMmol)}
 		// MLSS beside the field estimate of the days around the trials
@@ -518,18 +519,10 @@ func writeLactateCSV(w io.Writer, out lactateOut) error {
 		}
 	}
 	if m := out.MLSS; m != nil {
-		cw.Write([]string{"", trialDateOf(out.Trials), "MLSS trials", lactate.MethodMLSS, num(m.MidW), num(m.PassW), num(m.FailW), "", "Heck et al. 1985; Beneke 2003", strings.Join(m.Notes, "; ")})
+		cw.Write([]string{"", m.Date, "MLSS trials", lactate.MethodMLSS, num(m.MidW), num(m.PassW), num(m.FailW), "", "Heck et al. 1985; Beneke 2003", strings.Join(m.Notes, "; ")})
 	}
 	cw.Flush()
 	return cw.Error()
-}
-
-func trialDateOf(ts []lactateTrialJSON) string {
-	d := ""
-	for _, t := range ts {
-		d = max(d, t.Date)
-	}
-	return d
 }
 
 // lactateMethods are the lactate-based methods `compare` takes.

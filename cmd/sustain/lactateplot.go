@@ -50,7 +50,7 @@ func plotLactate(path string, as []lactate.Analysis, br *lactate.Bracket) error 
 		}
 		sc.GlyphStyle = draw.GlyphStyle{Color: ink, Radius: vg.Points(3.5), Shape: draw.CircleGlyph{}}
 		p.Add(sc)
-		p.Legend.Add(fmt.Sprintf("%s %s steps", a.Test.Athlete, label(a.Test)), sc)
+		p.Legend.Add(fmt.Sprintf("%s %s steps", a.Test.Athlete, a.Test.Label()), sc)
 		if a.CurveOK {
 			var cxy plotter.XYs
 			lo, hi := steps[0].PowerW, steps[len(steps)-1].PowerW
@@ -101,13 +101,6 @@ func plotLactate(path string, as []lactate.Analysis, br *lactate.Bracket) error 
 		}
 	}
 	return p.Save(22*vg.Centimeter, 15*vg.Centimeter, path)
-}
-
-func label(t lactate.StepTest) string {
-	if t.Date != "" {
-		return t.Date
-	}
-	return t.Test
 }
 
 // everyTick labels an axis at every multiple of step, exactly.
