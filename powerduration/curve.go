@@ -19,7 +19,6 @@ package powerduration
 import (
 	"fmt"
 	"math"
-	"math/bits"
 	"runtime"
 	"slices"
 	"sync"
@@ -181,121 +180,6 @@ func OfRideAvoiding(r *ingest.Ride, power []float64, avoid, bridge []ingest.Span
 		}
 	}
 	return rc
-}
-
-// Best is the highest mean power for a duration and the offset of the
-// earliest window found with it.
-type Best struct {
-	DurationS int
-	Watts     float64
-	OffsetS   int
-}
-
-// MeanMax returns, for each duration in ds (ascending, each at most
-// len(power)), the highest mean of any window of that many consecutive
-// values. Power must be non-negative.
-//
-// It is exact (equal to a scan of every window) but skips most windows: the
-// starts are taken in blocks, and a block is skipped when no window starting
-// in it can beat the best so far; a block that cannot be skipped is split
-// into smaller blocks, down to a few starts scanned one by one. Power is never negative, so the sum of a
-// window is at most the sum over the union of the block's windows, and at
-// most d times the highest value in that union (a range-maximum table
-// answers that in constant time). Each duration's best is seeded from the
-// previous duration's window, which is usually close.
-func MeanMax(power []float64, ds []int) []Best {
-	n := len(power)
-	out := make([]Best, 0, len(ds))
-	if n == 0 {
-		return out
-	}
-	sum := make([]float64, n+1)
-	for i, p := range power {
-		sum[i+1] = sum[i] + p
-	}
-	rmq := newRangeMax(power)
-	prevStart := 0
-	for _, d := range ds {
-		if d < 1 || d > n {
-			continue
-		}
-		// seed: the previous best window, grown to d (kept inside the ride)
-		s0 := min(prevStart, n-d)
-		sc := scanner{sum: sum, rmq: rmq, d: d, lastStart: n - d, bestSum: sum[s0+d] - sum[s0], bestStart: s0}
-		for a := 0; a <= n-d; a += topBlock {
-			sc.block(a, topBlock)
-		}
-		out = append(out, Best{DurationS: d, Watts: sc.bestSum / float64(d), OffsetS: sc.bestStart})
-		prevStart = sc.bestStart
-	}
-	return out
-}
-
-// Block sizes: starts are taken in blocks of topBlock; a block that cannot
-// be skipped is split into blocks a split-th the size, down to leafBlock,
-// whose starts are scanned one by one.
-const (
-	topBlock  = 512
-	split     = 4
-	leafBlock = 8
-)
-
-type scanner struct {
-	sum          []float64 // prefix sums
-	rmq          rangeMax
-	d, lastStart int
-	bestSum      float64
-	bestStart    int
-}
-
-// block considers the starts [a, a+size) (clipped to the last start).
-func (sc *scanner) block(a, size int) {
-	last := min(a+size-1, sc.lastStart)
-	hi := last + sc.d // the block's windows all lie in [a, hi)
-	bound := sc.sum[hi] - sc.sum[a]
-	if m := float64(sc.d) * sc.rmq.max(a, hi); m < bound {
-		bound = m
-	}
-	if bound < sc.bestSum || (bound == sc.bestSum && a > sc.bestStart) {
-		return
-	}
-	if size > leafBlock {
-		sub := size / split
-		for b := a; b <= last; b += sub {
-			sc.block(b, sub)
-		}
-		return
-	}
-	for s := a; s <= last; s++ {
-		v := sc.sum[s+sc.d] - sc.sum[s]
-		if v > sc.bestSum || (v == sc.bestSum && s < sc.bestStart) {
-			sc.bestSum, sc.bestStart = v, s
-		}
-	}
-}
-
-// rangeMax answers "highest value in [a, b)" in constant time (a sparse table).
-type rangeMax struct {
-	levels [][]float64
-}
-
-func newRangeMax(v []float64) rangeMax {
-	levels := [][]float64{v}
-	for k := 1; 1<<k <= len(v); k++ {
-		prev := levels[k-1]
-		half := 1 << (k - 1)
-		cur := make([]float64, len(v)-(1<<k)+1)
-		for i := range cur {
-			cur[i] = max(prev[i], prev[i+half])
-		}
-		levels = append(levels, cur)
-	}
-	return rangeMax{levels}
-}
-
-func (r rangeMax) max(a, b int) float64 {
-	k := bits.Len(uint(b-a)) - 1
-	return max(r.levels[k][a], r.levels[k][b-(1<<k)])
 }
 
 // OfRides computes the curve of every ride, on up to workers goroutines

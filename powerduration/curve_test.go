@@ -16,7 +16,13 @@ import (
 // bruteForce is the oracle: every window of every duration. A running sum
 // finds the candidates; each window within a hair of the best is then
 // summed directly, so rounding in the running sum cannot pick the winner.
+//
+// Power in whole tenths of a watt is summed exactly as whole numbers
+// instead, the earliest of equal windows winning.
 func bruteForce(power []float64, ds []int) []Best {
+	if out, ok := bruteForceTenths(power, ds); ok {
+		return out
+	}
 	var out []Best
 	for _, d := range ds {
 		run := 0.0
@@ -45,6 +51,32 @@ func bruteForce(power []float64, ds []int) []Best {
 	return out
 }
 
+func bruteForceTenths(power []float64, ds []int) ([]Best, bool) {
+	tenths := make([]int64, len(power))
+	for i, p := range power {
+		if math.Round(p*10) != p*10 {
+			return nil, false
+		}
+		tenths[i] = int64(math.Round(p * 10))
+	}
+	var out []Best
+	for _, d := range ds {
+		var run int64
+		for _, p := range tenths[:d] {
+			run += p
+		}
+		best, at := run, 0
+		for s := 1; s+d <= len(tenths); s++ {
+			run += tenths[s+d-1] - tenths[s-1]
+			if run > best {
+				best, at = run, s
+			}
+		}
+		out = append(out, Best{d, float64(best) / float64(10*d), at})
+	}
+	return out, true
+}
+
 func windowMean(power []float64, start, d int) float64 {
 	sum := 0.0
 	for _, p := range power[start : start+d] {
@@ -58,13 +90,14 @@ func checkAgainstOracle(t *testing.T, name string, power []float64) {
 	ds := Durations(len(power))
 	got := MeanMax(power, ds)
 	want := bruteForce(power, ds)
+	_, exact := bruteForceTenths(power, ds[:0])
 	if len(got) != len(want) {
 		t.Fatalf("%s: %d points, want %d", name, len(got), len(want))
 	}
 	for i := range want {
 		g, w := got[i], want[i]
-		if g.DurationS != w.DurationS || math.Abs(g.Watts-w.Watts) > 1e-9 {
-			t.Fatalf("%s: %d s: %.12f W, brute force %.12f W", name, w.DurationS, g.Watts, w.Watts)
+		if g.DurationS != w.DurationS || math.Abs(g.Watts-w.Watts) > 1e-9 || (exact && g.OffsetS != w.OffsetS) {
+			t.Fatalf("%s: %d s: %.12f W at %d, brute force %.12f W at %d", name, w.DurationS, g.Watts, g.OffsetS, w.Watts, w.OffsetS)
 		}
 		// provenance: the reported window really has that mean
 		if m := windowMean(power, g.OffsetS, g.DurationS); math.Abs(m-g.Watts) > 1e-9 {
@@ -104,6 +137,30 @@ func TestMeanMaxMatchesBruteForce(t *testing.T) {
 		n := 1 + rng.IntN(900)
 		checkAgainstOracle(t, "random", random(n, func(int) float64 { return float64(rng.IntN(600)) }))
 		_ = k
+	}
+}
+
+// Every ride shape of the benchmarks, past an hour (so the long grid
+// too), in whole watts, tenths, and values off the tenths (summed in
+// floating point), against the oracle; and durations out of order.
+func TestMeanMaxShapesMatchBruteForce(t *testing.T) {
+	for _, shape := range rideShapes {
+		p := shape.power()[:4100]
+		checkAgainstOracle(t, shape.name, p)
+		if shape.name != "field2h" && shape.name != "trainer24h" {
+			continue // the float oracle sums near-ties one by one: slow on steady shapes
+		}
+		off := slices.Clone(p)
+		for i := range off {
+			off[i] += 0.013 * float64(i%7)
+		}
+		checkAgainstOracle(t, shape.name+" off the tenths", off)
+	}
+	p := rideShapes[0].power()[:900]
+	want := MeanMax(p, []int{5, 60, 300})
+	got := MeanMax(p, []int{300, 5, 900, 60})
+	if len(got) != 4 || got[0] != want[2] || got[1] != want[0] || got[3] != want[1] {
+		t.Errorf("durations out of order: %+v, want %+v in their order", got, want)
 	}
 }
 

@@ -1,0 +1,271 @@
+package powerduration
+
+import (
+	"math"
+	"math/bits"
+	"slices"
+)
+
+// Best is the highest mean power for a duration and the offset of the
+// earliest window found with it.
+type Best struct {
+	DurationS int
+	Watts     float64
+	OffsetS   int
+}
+
+// MeanMax returns, for each duration in ds (ascending, each at most
+// len(power)), the highest mean of any window of that many consecutive
+// values, and the earliest window that has it. Power must be non-negative.
+//
+// It is exact (equal to a scan of every window) but skips most windows.
+// The starts are taken in blocks, and each block carries an upper bound on
+// its windows' sums from one duration to the next: a window of d seconds
+// is a window of d0 seconds plus the k = d − d0 seconds after it, so the
+// block's bound at d0 plus the best k-second sum of the whole ride (known
+// already, since k < d) bounds it at d. A block is looked at again only
+// when that bound reaches the best window so far; then two bounds of its
+// own (the sum over the union of its windows, and d times the highest
+// value in that union, from a range-maximum table) decide whether to
+// scan it, in smaller blocks down to a few starts scanned one by one.
+// Each duration's best is seeded from the previous duration's window.
+//
+// The carried bound is what keeps near-constant rides (a trainer held at
+// one power, or long steady riding) fast: there every block's own bounds
+// are close to the best, but a block that was well below the best at d0
+// stays below it for many durations after. Field rides, noise and
+// periodic efforts are pruned by the blocks' own bounds.
+//
+// Power that is whole tenths of a watt (every power meter's, and every
+// ride this tool cleans) is summed as whole numbers, so equal windows tie
+// exactly and the earliest is reported; other values are summed in
+// floating point with a margin for rounding in every bound.
+func MeanMax(power []float64, ds []int) []Best {
+	if len(power) == 0 {
+		return []Best{}
+	}
+	if !slices.IsSorted(ds) {
+		sorted := slices.Clone(ds)
+		slices.Sort(sorted)
+		byD := map[int]Best{}
+		for _, b := range MeanMax(power, sorted) {
+			byD[b.DurationS] = b
+		}
+		out := make([]Best, 0, len(ds))
+		for _, d := range ds {
+			if b, ok := byD[d]; ok {
+				out = append(out, b)
+			}
+		}
+		return out
+	}
+	if tenths, ok := asTenths(power); ok {
+		return meanMax(tenths, ds, 10, 0)
+	}
+	total := 0.0
+	for _, p := range power {
+		total += p
+	}
+	return meanMax(power, ds, 1, 1e-12*(total+1))
+}
+
+// asTenths is power in whole tenths of a watt, if every value is one.
+func asTenths(power []float64) ([]int64, bool) {
+	out := make([]int64, len(power))
+	for i, p := range power {
+		t := math.Round(p * 10)
+		if !(math.Abs(t-p*10) <= 1e-9 && t >= 0 && t <= 1<<40) { // NaN fails too
+			return nil, false
+		}
+		out[i] = int64(t)
+	}
+	return out, true
+}
+
+// number is a summed sample: whole tenths of a watt, or watts.
+type number interface{ ~int64 | ~float64 }
+
+// Block sizes: the starts are taken in blocks of topBlock, each carrying
+// its bound; a block that must be looked at is split into blocks a
+// split-th the size, down to leafBlock, whose starts are scanned one by
+// one.
+const (
+	topBlock  = 128
+	split     = 4
+	leafBlock = 32
+)
+
+// meanMax is MeanMax over samples of type T; a best sum s of d samples
+// is s / (scale·d) watts. margin is added to every bound before it is
+// compared with the best so far (0 where sums are exact).
+func meanMax[T number](power []T, ds []int, scale float64, margin T) []Best {
+	n := len(power)
+	out := make([]Best, 0, len(ds))
+	sum := make([]T, n+1)
+	var top T
+	for i, p := range power {
+		sum[i+1] = sum[i] + p
+		top = max(top, p)
+	}
+	sc := scanner[T]{sum: sum, rmq: newRangeMax(power), margin: margin}
+	blocks := (n + topBlock - 1) / topBlock
+	upper := make([]T, blocks) // a bound on the block's window sums at duration since
+	since := make([]int, blocks)
+	// reach[k] bounds the sum of any k seconds of the ride: the best sum
+	// of the shortest duration computed that is at least k long; past it,
+	// the highest value for every further second.
+	reach := make([]T, 1, min(n, maxOf(ds))+1)
+	known := 0 // the longest k whose reach is a computed best
+	prevStart := 0
+	for _, d := range ds {
+		if d < 1 || d > n {
+			continue
+		}
+		s0 := min(prevStart, n-d) // seed: the previous best window, grown to d
+		sc.d, sc.lastStart, sc.bestSum, sc.bestStart = d, n-d, sum[s0+d]-sum[s0], s0
+		for b := 0; b*topBlock <= sc.lastStart; b++ {
+			a := b * topBlock
+			if since[b] > 0 {
+				// a window of d s is one of since[b] s and the k s after it
+				k := d - since[b]
+				var inc T // the best k-second sum, or a bound on it
+				if k <= known {
+					inc = reach[k]
+				} else {
+					inc = reach[known] + T(k-known)*top
+				}
+				if sc.skips(a, upper[b]+inc) {
+					continue
+				}
+				// the k s after each window, bounded within the block
+				last := min(a+topBlock-1, sc.lastStart)
+				from, hi := a+since[b], last+d
+				if bound := upper[b] + min(T(k)*sc.rmq.max(from, hi), sum[hi]-sum[from]); sc.skips(a, bound) {
+					upper[b], since[b] = bound, d
+					continue
+				}
+			}
+			upper[b], since[b] = sc.block(a, topBlock), d
+		}
+		for len(reach) <= d {
+			reach = append(reach, sc.bestSum)
+		}
+		known = d
+		out = append(out, Best{DurationS: d, Watts: float64(sc.bestSum) / (scale * float64(d)), OffsetS: sc.bestStart})
+		prevStart = sc.bestStart
+	}
+	return out
+}
+
+func maxOf(ds []int) int {
+	m := 0
+	for _, d := range ds {
+		m = max(m, d)
+	}
+	return m
+}
+
+// scanner finds the best window of one duration d.
+type scanner[T number] struct {
+	sum          []T // prefix sums
+	rmq          rangeMax[T]
+	margin       T
+	d, lastStart int
+	bestSum      T
+	bestStart    int
+}
+
+// skips reports whether no window starting at a or later whose sum is at
+// most bound can replace the best so far (on a tie the earlier one wins).
+func (sc *scanner[T]) skips(a int, bound T) bool {
+	bound += sc.margin
+	return bound < sc.bestSum || (bound == sc.bestSum && a > sc.bestStart)
+}
+
+// block considers the starts [a, a+size) (clipped to the last start) and
+// returns a bound on their windows' sums: exact where they were scanned.
+func (sc *scanner[T]) block(a, size int) T {
+	last := min(a+size-1, sc.lastStart)
+	hi := last + sc.d // the block's windows all lie in [a, hi)
+	bound := min(sc.sum[hi]-sc.sum[a], T(sc.d)*sc.rmq.max(a, hi))
+	if sc.skips(a, bound) {
+		return bound
+	}
+	var most T
+	if size > leafBlock {
+		sub := size / split
+		for b := a; b <= last; b += sub {
+			most = max(most, sc.block(b, sub))
+		}
+		return most
+	}
+	hiSums := sc.sum[a+sc.d : last+1+sc.d]
+	lo := sc.sum[a : a+len(hiSums)]
+	most = windowsMax(hiSums, lo)
+	if most > sc.bestSum || most == sc.bestSum && a < sc.bestStart {
+		for s, v := range hiSums { // the earliest window with it
+			if v-lo[s] == most {
+				if most > sc.bestSum || a+s < sc.bestStart {
+					sc.bestSum, sc.bestStart = most, a+s
+				}
+				break
+			}
+		}
+	}
+	return most
+}
+
+// windowsMax is the highest of hi[s] − lo[s] (hi and lo of one length,
+// at least 1), four at a time.
+func windowsMax[T number](hi, lo []T) T {
+	m0 := hi[0] - lo[0]
+	m1, m2, m3 := m0, m0, m0
+	s := 0
+	for ; s+4 <= len(hi) && s+4 <= len(lo); s += 4 {
+		h, l := hi[s:s+4:s+4], lo[s:s+4:s+4]
+		m0 = max(m0, h[0]-l[0])
+		m1 = max(m1, h[1]-l[1])
+		m2 = max(m2, h[2]-l[2])
+		m3 = max(m3, h[3]-l[3])
+	}
+	for ; s < len(hi) && s < len(lo); s++ {
+		m0 = max(m0, hi[s]-lo[s])
+	}
+	return max(m0, m1, m2, m3)
+}
+
+// rangeMax answers "a value at least the highest in [a, b)" in constant
+// time: the highest in the grains of rangeGrain values that [a, b)
+// touches, from a sparse table over the grains' highest values (1/32 of
+// the memory and time of a table over every value; the looser bound
+// costs little, as blocks are whole grains).
+type rangeMax[T number] struct {
+	levels [][]T
+}
+
+const rangeGrain = 32
+
+func newRangeMax[T number](v []T) rangeMax[T] {
+	grains := make([]T, (len(v)+rangeGrain-1)/rangeGrain)
+	for i, x := range v {
+		g := i / rangeGrain
+		grains[g] = max(grains[g], x)
+	}
+	levels := [][]T{grains}
+	for k := 1; 1<<k <= len(grains); k++ {
+		prev := levels[k-1]
+		half := 1 << (k - 1)
+		cur := make([]T, len(grains)-(1<<k)+1)
+		for i := range cur {
+			cur[i] = max(prev[i], prev[i+half])
+		}
+		levels = append(levels, cur)
+	}
+	return rangeMax[T]{levels}
+}
+
+func (r rangeMax[T]) max(a, b int) T {
+	a, b = a/rangeGrain, (b+rangeGrain-1)/rangeGrain
+	k := bits.Len(uint(b-a)) - 1
+	return max(r.levels[k][a], r.levels[k][b-(1<<k)])
+}
