@@ -1,11 +1,13 @@
 package powerduration
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
 	"time"
 
+	"github.com/sustain-cycling/sustain/ingest"
 	"github.com/sustain-cycling/sustain/internal/synth"
 )
 
@@ -97,5 +99,37 @@ func BenchmarkCurveTightLoop(b *testing.B) {
 				tightLoop(p, ds)
 			}
 		})
+	}
+}
+
+// benchCurves are n rides' curves: a few rides of 1–4 h, each ridden again
+// at another power (a rider's season, to the merge).
+func benchCurves(n int) []RideCurve {
+	rng := rand.New(rand.NewPCG(9, 9))
+	var base []RideCurve
+	for h := 1; h <= 4; h++ {
+		r := ingest.Ride{File: "base.fit", PowerW: fieldPower(h)}
+		base = append(base, OfRide(&r))
+	}
+	out := make([]RideCurve, n)
+	for k := range out {
+		b := base[k%len(base)]
+		f := 0.9 + 0.2*rng.Float64()
+		ws := make([]float64, len(b.Watts))
+		for i, w := range b.Watts {
+			ws[i] = math.Round(w*f*10) / 10
+		}
+		start := time.Date(2026, 1, 1, 8, 0, 0, 0, time.UTC).AddDate(0, 0, k)
+		out[k] = RideCurve{Source: &Source{File: fmt.Sprintf("r%04d.fit", k), Date: start.Format("2006-01-02"), RideStart: start},
+			Watts: ws, OffsetsS: b.OffsetsS}
+	}
+	return out
+}
+
+// Target (issue 15): the best of 1,000 rides' curves ≤ 15 ms.
+func BenchmarkBestOf1000(b *testing.B) {
+	curves := benchCurves(1000)
+	for b.Loop() {
+		BestOf(curves)
 	}
 }

@@ -339,6 +339,14 @@ func TestBestOfIsMergeFold(t *testing.T) {
 		rcs = append(rcs, rc)
 		fold = Merge(fold, rc.Curve())
 	}
+	// equal watts from other rides: ties settled as Merge settles them
+	for k, day := range []int{1, 9} {
+		tie := rcs[k]
+		start := time.Date(2026, 4, day, 7, 0, 0, 0, time.UTC)
+		tie.Source = &Source{File: "tie" + string(rune('a'+k)) + ".fit", Date: start.Format("2006-01-02"), RideStart: start}
+		rcs = append(rcs, tie)
+		fold = Merge(fold, tie.Curve())
+	}
 	if !equalCurves(BestOf(rcs), fold) {
 		t.Error("BestOf differs from folding Merge")
 	}

@@ -55,24 +55,33 @@ func Merge(a, b Curve) Curve {
 }
 
 // BestOf is the pointwise best of the rides' curves: the same as merging
-// their Curves one by one, in one pass.
+// their Curves one by one, in one pass. It goes ride by ride comparing
+// watts alone, and spells out only the winning points; a tie in watts is
+// settled as Merge settles it.
 func BestOf(curves []RideCurve) Curve {
 	n := 0
 	for _, rc := range curves {
 		n = max(n, rc.Len())
 	}
-	out := Curve{Points: make([]Point, 0, n)}
-	for i := range n {
-		var best Point
-		found := false
-		for _, rc := range curves {
-			if i < rc.Len() {
-				if p := rc.point(i); !found || better(p, best) {
-					best, found = p, true
-				}
+	watts := make([]float64, n)
+	winner := make([]int32, n) // the curve holding each duration's best
+	for i := range winner {
+		winner[i] = -1
+	}
+	for c, rc := range curves {
+		ws := rc.Watts[:min(len(rc.Watts), n)]
+		for i, w := range ws {
+			switch {
+			case w > watts[i] || winner[i] < 0:
+				watts[i], winner[i] = w, int32(c)
+			case w == watts[i] && better(rc.point(i), curves[winner[i]].point(i)):
+				winner[i] = int32(c)
 			}
 		}
-		out.Points = append(out.Points, best)
+	}
+	out := Curve{Points: make([]Point, n)}
+	for i, c := range winner {
+		out.Points[i] = curves[c].point(i)
 	}
 	return out
 }
