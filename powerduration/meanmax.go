@@ -24,17 +24,18 @@ type Best struct {
 // is a window of d0 seconds plus the k = d − d0 seconds after it, so the
 // block's bound at d0 plus the best k-second sum of the whole ride (known
 // already, since k < d) bounds it at d. A block is looked at again only
-// when that bound reaches the best window so far; then two bounds of its
-// own (the sum over the union of its windows, and d times the highest
-// value in that union, from a range-maximum table) decide whether to
-// scan it, in smaller blocks down to a few starts scanned one by one.
-// Each duration's best is seeded from the previous duration's window.
+// when that bound reaches the best window so far; then the highest value
+// in the k seconds after its windows, and two bounds of its own (the sum
+// over the union of its windows, and d times the highest value in that
+// union, from a range-maximum table), decide whether to scan it. A block
+// scanned is scanned whole, so its bound is exact again. Each duration's
+// best is seeded from the previous duration's window.
 //
 // The carried bound is what keeps near-constant rides (a trainer held at
-// one power, or long steady riding) fast: there every block's own bounds
-// are close to the best, but a block that was well below the best at d0
-// stays below it for many durations after. Field rides, noise and
-// periodic efforts are pruned by the blocks' own bounds.
+// one power, long steady riding) fast: there every block's own bounds
+// are close to the best, but a block that was below the best at d0 stays
+// below it for many durations after. Field rides, noise and periodic
+// efforts are pruned by the blocks' own bounds as well.
 //
 // Power that is whole tenths of a watt (every power meter's, and every
 // ride this tool cleans) is summed as whole numbers, so equal windows tie
@@ -85,15 +86,11 @@ func asTenths(power []float64) ([]int64, bool) {
 // number is a summed sample: whole tenths of a watt, or watts.
 type number interface{ ~int64 | ~float64 }
 
-// Block sizes: the starts are taken in blocks of topBlock, each carrying
-// its bound; a block that must be looked at is split into blocks a
-// split-th the size, down to leafBlock, whose starts are scanned one by
-// one.
-const (
-	topBlock  = 128
-	split     = 4
-	leafBlock = 32
-)
+// blockStarts is how many starts a block holds: each block carries its
+// bound, and a block that may hold a better window is scanned whole, so
+// that its bound is exact again (measured against blocks split into
+// smaller ones with bounds of their own: faster on every ride shape).
+const blockStarts = 256
 
 // meanMax is MeanMax over samples of type T; a best sum s of d samples
 // is s / (scale·d) watts. margin is added to every bound before it is
@@ -108,49 +105,45 @@ func meanMax[T number](power []T, ds []int, scale float64, margin T) []Best {
 		top = max(top, p)
 	}
 	sc := scanner[T]{sum: sum, rmq: newRangeMax(power), margin: margin}
-	blocks := (n + topBlock - 1) / topBlock
+	blocks := (n + blockStarts - 1) / blockStarts
 	upper := make([]T, blocks) // a bound on the block's window sums at duration since
-	since := make([]int, blocks)
+	since := make([]int32, blocks)
 	// reach[k] bounds the sum of any k seconds of the ride: the best sum
-	// of the shortest duration computed that is at least k long; past it,
-	// the highest value for every further second.
+	// of the shortest duration computed that is at least k long.
 	reach := make([]T, 1, min(n, maxOf(ds))+1)
-	known := 0 // the longest k whose reach is a computed best
 	prevStart := 0
 	for _, d := range ds {
 		if d < 1 || d > n {
 			continue
 		}
+		// reach up to d−1: past the durations computed, the highest
+		// value for every further second
+		for k := len(reach); k < d; k++ {
+			reach = append(reach, reach[k-1]+top)
+		}
 		s0 := min(prevStart, n-d) // seed: the previous best window, grown to d
 		sc.d, sc.lastStart, sc.bestSum, sc.bestStart = d, n-d, sum[s0+d]-sum[s0], s0
-		for b := 0; b*topBlock <= sc.lastStart; b++ {
-			a := b * topBlock
+		blocks := sc.lastStart/blockStarts + 1
+		for b, u := range upper[:blocks] {
+			a := b * blockStarts
 			if since[b] > 0 {
-				// a window of d s is one of since[b] s and the k s after it
-				k := d - since[b]
-				var inc T // the best k-second sum, or a bound on it
-				if k <= known {
-					inc = reach[k]
-				} else {
-					inc = reach[known] + T(k-known)*top
-				}
-				if sc.skips(a, upper[b]+inc) {
+				// a window of d s is one of since[b] s and the k s after it,
+				// whose sum is at most reach[k]
+				k := d - int(since[b])
+				if bound := u + reach[k] + margin; bound < sc.bestSum || bound == sc.bestSum && a > sc.bestStart {
 					continue
 				}
 				// the k s after each window, bounded within the block
-				last := min(a+topBlock-1, sc.lastStart)
-				from, hi := a+since[b], last+d
-				if bound := upper[b] + min(T(k)*sc.rmq.max(from, hi), sum[hi]-sum[from]); sc.skips(a, bound) {
-					upper[b], since[b] = bound, d
+				last := min(a+blockStarts-1, sc.lastStart)
+				from, hi := a+int(since[b]), last+d
+				if bound := u + min(T(k)*sc.rmq.max(from, hi), sum[hi]-sum[from]); sc.skips(a, bound) {
+					upper[b], since[b] = bound, int32(d)
 					continue
 				}
 			}
-			upper[b], since[b] = sc.block(a, topBlock), d
+			upper[b], since[b] = sc.block(a), int32(d)
 		}
-		for len(reach) <= d {
-			reach = append(reach, sc.bestSum)
-		}
-		known = d
+		reach = append(reach[:d], sc.bestSum)
 		out = append(out, Best{DurationS: d, Watts: float64(sc.bestSum) / (scale * float64(d)), OffsetS: sc.bestStart})
 		prevStart = sc.bestStart
 	}
@@ -182,34 +175,29 @@ func (sc *scanner[T]) skips(a int, bound T) bool {
 	return bound < sc.bestSum || (bound == sc.bestSum && a > sc.bestStart)
 }
 
-// block considers the starts [a, a+size) (clipped to the last start) and
-// returns a bound on their windows' sums: exact where they were scanned.
-func (sc *scanner[T]) block(a, size int) T {
-	last := min(a+size-1, sc.lastStart)
+// block considers the starts [a, a+blockStarts) (clipped to the last
+// start) and returns a bound on their windows' sums: exact where they
+// were scanned.
+func (sc *scanner[T]) block(a int) T {
+	last := min(a+blockStarts-1, sc.lastStart)
 	hi := last + sc.d // the block's windows all lie in [a, hi)
 	bound := min(sc.sum[hi]-sc.sum[a], T(sc.d)*sc.rmq.max(a, hi))
 	if sc.skips(a, bound) {
 		return bound
 	}
-	var most T
-	if size > leafBlock {
-		sub := size / split
-		for b := a; b <= last; b += sub {
-			most = max(most, sc.block(b, sub))
-		}
+	ends := sc.sum[a+sc.d : hi+1]
+	starts := sc.sum[a : a+len(ends)]
+	most := windowsMax(ends, starts)
+	if most < sc.bestSum || most == sc.bestSum && a >= sc.bestStart {
 		return most
 	}
-	hiSums := sc.sum[a+sc.d : last+1+sc.d]
-	lo := sc.sum[a : a+len(hiSums)]
-	most = windowsMax(hiSums, lo)
-	if most > sc.bestSum || most == sc.bestSum && a < sc.bestStart {
-		for s, v := range hiSums { // the earliest window with it
-			if v-lo[s] == most {
-				if most > sc.bestSum || a+s < sc.bestStart {
-					sc.bestSum, sc.bestStart = most, a+s
-				}
-				break
-			}
+	if most == sc.bestSum { // only a window before the best so far can win
+		ends = ends[:sc.bestStart-a]
+	}
+	for s, v := range ends { // the earliest window with it
+		if v-starts[s] == most {
+			sc.bestSum, sc.bestStart = most, a+s
+			break
 		}
 	}
 	return most
