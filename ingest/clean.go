@@ -45,7 +45,7 @@ const (
 	LatestUnixS   = 4102444800
 	// PolicyVersion changes whenever the cleaning policy changes, so that
 	// stored results computed under an older policy can be recognised.
-	PolicyVersion = 2
+	PolicyVersion = 3
 )
 
 // Sample is one recorded point before cleaning. Time is Unix seconds (with
@@ -197,6 +197,12 @@ func Clean(samples []Sample, spikeCeilingW float64, loc *time.Location) (Ride, e
 			q.GapSeconds += run.Seconds
 		}
 		i = j
+	}
+
+	// Power is kept to 0.1 W (a meter's own resolution is 1 W): curves sum
+	// it exactly, and the store keeps it exactly in two bytes a second.
+	for i, p := range power {
+		power[i] = math.Round(p*10) / 10
 	}
 
 	// Stuck runs: identical non-zero power for MinStuckRunS or more.

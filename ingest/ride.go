@@ -15,6 +15,7 @@
 //     a step of the ride's normal sparse recording (FilledSeconds, not a
 //     repair); every other missing second is 0 W (stopped, paused, or a
 //     long dropout);
+//   - power is kept to 0.1 W;
 //   - constant non-zero power for 60 s or more is reported as a stuck run
 //     but left as it is.
 //

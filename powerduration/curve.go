@@ -131,7 +131,7 @@ func OfRide(r *ingest.Ride) RideCurve {
 
 // OfRideAvoiding is the ride's curve over the windows that share no second
 // with the spans to avoid, with the recorded values of the spans to bridge
-// replaced by a straight line between the seconds on either side (each
+// replaced by a straight line (to 0.1 W) between the seconds on either side (each
 // list in time order, not overlapping): the best clean window of each
 // duration, for efforts that must not rest on suspect power. A duration
 // with no clean window has 0 W. power is the ride's power (it may have
@@ -156,7 +156,7 @@ func OfRideAvoiding(r *ingest.Ride, power []float64, avoid, bridge []ingest.Span
 			}
 			for k := a; k < b; k++ {
 				f := float64(k-a+1) / float64(b-a+1)
-				power[k] = left + (right-left)*f
+				power[k] = math.Round((left+(right-left)*f)*10) / 10 // to 0.1 W, as cleaning keeps power
 			}
 		}
 	}

@@ -392,7 +392,7 @@ func TestOfRideAvoidingMatchesScan(t *testing.T) {
 		power = slices.Clone(power)
 		a, b := power[n/2-1], power[n/2+3]
 		for k := range 3 {
-			power[n/2+k] = a + (b-a)*float64(k+1)/4
+			power[n/2+k] = math.Round((a+(b-a)*float64(k+1)/4)*10) / 10
 		}
 		for i, d := range rc.DurationsS() {
 			best, at := 0.0, 0

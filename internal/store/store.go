@@ -35,7 +35,7 @@ import (
 )
 
 // SchemaVersion changes whenever the tables change; an older store is rebuilt.
-const SchemaVersion = 2
+const SchemaVersion = 3
 
 const schema = `
 CREATE TABLE IF NOT EXISTS meta (key TEXT PRIMARY KEY, value TEXT NOT NULL);
@@ -47,7 +47,13 @@ CREATE TABLE IF NOT EXISTS results (
 CREATE TABLE IF NOT EXISTS rides (
 	sha256 TEXT NOT NULL, options TEXT NOT NULL, session INTEGER NOT NULL,
 	start TEXT NOT NULL, sport TEXT NOT NULL, seconds INTEGER NOT NULL,
-	quality TEXT NOT NULL, power BLOB NOT NULL, curve BLOB NOT NULL,
+	samples INTEGER NOT NULL, coverage REAL NOT NULL, interval_s REAL NOT NULL,
+	gap_s INTEGER NOT NULL, dropout_s INTEGER NOT NULL, filled_s INTEGER NOT NULL,
+	spikes_removed INTEGER NOT NULL, invalid_values INTEGER NOT NULL,
+	time_reversals INTEGER NOT NULL, time_outliers INTEGER NOT NULL,
+	flags INTEGER NOT NULL, fallback_offset_s REAL NOT NULL,
+	quality_lists BLOB NOT NULL, notes TEXT NOT NULL,
+	power BLOB NOT NULL, curve BLOB NOT NULL,
 	sum INTEGER NOT NULL, power_sum INTEGER NOT NULL,
 	PRIMARY KEY (sha256, options, session));
 `
@@ -293,10 +299,27 @@ type entry struct {
 
 // stored is a ride's row as read, before its blobs are unpacked.
 type stored struct {
-	session, seconds   int
-	start, sport, qual string
-	curve              []byte
-	sum                int64
+	session, seconds int
+	start, sport     string
+	qual             qualityRow
+	curve            []byte
+	sum              int64
+}
+
+// storedColumns are the rides table's columns a scan reads, in the order
+// of stored.fields.
+const storedColumns = `session, start, sport, seconds, ` + qualityColumns + `, curve, sum`
+
+// fields are the row's columns, for Scan; the curve is scanned without a
+// copy (sql.RawBytes), and copied once by keep.
+func (x *stored) fields(curve *sql.RawBytes) []any {
+	return append(append([]any{&x.session, &x.start, &x.sport, &x.seconds}, x.qual.fields()...), curve, &x.sum)
+}
+
+// keep copies what was scanned without a copy, before the next row.
+func (x *stored) keep(curve sql.RawBytes) {
+	x.curve = append([]byte(nil), curve...)
+	x.qual.lists = append([]byte(nil), x.qual.lists...)
 }
 
 // Every stored ride carries checksums (CRC-32C, Castagnoli) written with
@@ -305,9 +328,10 @@ type stored struct {
 // fail is never used, but decoded again from its file.
 var castagnoli = crc32.MakeTable(crc32.Castagnoli)
 
-func rowSum(start, sport string, seconds int, qual string, curve []byte) int64 {
+func rowSum(start, sport string, seconds int, qual *qualityRow, curve []byte) int64 {
 	h := crc32.New(castagnoli)
-	fmt.Fprintf(h, "%s\x00%s\x00%d\x00%s\x00", start, sport, seconds, qual)
+	fmt.Fprintf(h, "%s\x00%s\x00%d\x00", start, sport, seconds)
+	h.Write(qual.checksummed())
 	h.Write(curve)
 	return int64(h.Sum32())
 }
@@ -555,17 +579,19 @@ func (s *Store) load(e *entry, key string, opts ingest.Options) (found bool, err
 		return true, nil
 	}
 	var raws []stored
-	rows, err := s.db.Query(`SELECT session, start, sport, seconds, quality, curve, sum FROM rides
+	rows, err := s.db.Query(`SELECT `+storedColumns+` FROM rides
 		WHERE sha256 = ? AND options = ? ORDER BY session`, e.hash, key)
 	if err != nil {
 		return false, err
 	}
 	for rows.Next() {
 		var x stored
-		if err := rows.Scan(&x.session, &x.start, &x.sport, &x.seconds, &x.qual, &x.curve, &x.sum); err != nil {
+		var curve sql.RawBytes
+		if err := rows.Scan(x.fields(&curve)...); err != nil {
 			rows.Close()
 			return false, err
 		}
+		x.keep(curve)
 		raws = append(raws, x)
 	}
 	rows.Close()
@@ -617,7 +643,7 @@ func (x stored) check(path string, opts ingest.Options) (ingest.Ride, powerdurat
 	bad := func(what string) (ingest.Ride, powerduration.RideCurve, error) {
 		return ingest.Ride{}, powerduration.RideCurve{}, fmt.Errorf("store: %s: stored %s fails its check", path, what)
 	}
-	if rowSum(x.start, x.sport, x.seconds, x.qual, x.curve) != x.sum {
+	if rowSum(x.start, x.sport, x.seconds, &x.qual, x.curve) != x.sum {
 		return bad("row")
 	}
 	r := ingest.Ride{File: path, Session: x.session, Sport: x.sport}
@@ -625,7 +651,10 @@ func (x stored) check(path string, opts ingest.Options) (ingest.Ride, powerdurat
 	if r.Start, err = time.Parse(time.RFC3339Nano, x.start); err != nil {
 		return bad("start")
 	}
-	if err := json.Unmarshal([]byte(x.qual), &r.Quality); err != nil || r.Quality.Seconds != x.seconds || x.seconds <= 0 || x.seconds > ingest.MaxTimelineS {
+	if x.seconds <= 0 || x.seconds > ingest.MaxTimelineS {
+		return bad("length")
+	}
+	if r.Quality, err = x.qual.quality(x.seconds); err != nil {
 		return bad("quality report")
 	}
 	c, err := decodeCurve(x.curve, &r)
@@ -680,7 +709,7 @@ func (s *Store) bulkLoad(es []entry, key string) error {
 		return err
 	}
 	raws := map[string][]stored{}
-	rows, err = s.db.Query(`SELECT sha256, session, start, sport, seconds, quality, curve, sum FROM rides
+	rows, err = s.db.Query(`SELECT sha256, `+storedColumns+` FROM rides
 		WHERE options = ? AND sha256 IN (SELECT value FROM json_each(?)) ORDER BY sha256, session`, key, string(list))
 	if err != nil {
 		return err
@@ -688,10 +717,12 @@ func (s *Store) bulkLoad(es []entry, key string) error {
 	for rows.Next() {
 		var h string
 		var x stored
-		if err := rows.Scan(&h, &x.session, &x.start, &x.sport, &x.seconds, &x.qual, &x.curve, &x.sum); err != nil {
+		var curve sql.RawBytes
+		if err := rows.Scan(append([]any{&h}, x.fields(&curve)...)...); err != nil {
 			rows.Close()
 			return err
 		}
+		x.keep(curve)
 		raws[h] = append(raws[h], x)
 	}
 	rows.Close()
@@ -732,7 +763,7 @@ func (s *Store) powerLoader(path, hash, key string, session, seconds int, opts i
 		var sum int64
 		err := s.db.QueryRow(`SELECT power, power_sum FROM rides WHERE sha256 = ? AND options = ? AND session = ?`, hash, key, session).Scan(&blob, &sum)
 		if err == nil && powerSum(blob) == sum {
-			if v, err := decodeFloats(blob, seconds); err == nil && inBounds(v, ceiling(opts)) {
+			if v, err := decodePower(blob, seconds); err == nil && inBounds(v, ceiling(opts)) {
 				return v, nil
 			}
 		}
@@ -781,73 +812,15 @@ func (s *Store) write(es []*entry, key string) error {
 		}
 		for k := range e.rides {
 			r := &e.rides[k]
-			q, err := json.Marshal(r.Quality)
-			if err != nil {
-				return err
-			}
-			start, power, curve := r.Start.Format(time.RFC3339Nano), encodeFloats(r.PowerW), encodeCurve(e.curves[k])
-			if _, err := tx.Exec(`INSERT OR REPLACE INTO rides (sha256, options, session, start, sport, seconds, quality, power, curve, sum, power_sum)
-				VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`, e.hash, key, r.Session, start, r.Sport,
-				len(r.PowerW), string(q), power, curve, rowSum(start, r.Sport, len(r.PowerW), string(q), curve), powerSum(power)); err != nil {
+			q := rowOfQuality(&r.Quality)
+			start, power, curve := r.Start.Format(time.RFC3339Nano), encodePower(r.PowerW), encodeCurve(e.curves[k])
+			args := append([]any{e.hash, key, r.Session, start, r.Sport, len(r.PowerW)}, q.values()...)
+			args = append(args, power, curve, rowSum(start, r.Sport, len(r.PowerW), &q, curve), powerSum(power))
+			if _, err := tx.Exec(`INSERT OR REPLACE INTO rides (sha256, options, session, start, sport, seconds, `+qualityColumns+`, power, curve, sum, power_sum)
+				VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`, args...); err != nil {
 				return err
 			}
 		}
 	}
 	return tx.Commit()
-}
-
-// encodeFloats packs power as float64 little-endian: exactly what cleaning
-// produced.
-func encodeFloats(v []float64) []byte {
-	raw := make([]byte, 8*len(v))
-	for i, x := range v {
-		binary.LittleEndian.PutUint64(raw[8*i:], math.Float64bits(x))
-	}
-	return raw
-}
-
-func decodeFloats(b []byte, n int) ([]float64, error) {
-	raw, err := inflate(b, 8*n)
-	if err != nil {
-		return nil, err
-	}
-	v := make([]float64, n)
-	for i := range v {
-		v[i] = math.Float64frombits(binary.LittleEndian.Uint64(raw[8*i:]))
-	}
-	return v, nil
-}
-
-// encodeCurve packs the curve's watts (float64) and offsets (uint32); the
-// durations are the shared grid for the ride's length.
-func encodeCurve(c powerduration.RideCurve) []byte {
-	raw := make([]byte, 12*c.Len())
-	for i := range c.Watts {
-		binary.LittleEndian.PutUint64(raw[12*i:], math.Float64bits(c.Watts[i]))
-		binary.LittleEndian.PutUint32(raw[12*i+8:], uint32(c.OffsetsS[i]))
-	}
-	return raw
-}
-
-func decodeCurve(raw []byte, r *ingest.Ride) (powerduration.RideCurve, error) {
-	n := len(powerduration.Durations(r.Quality.Seconds))
-	if len(raw) != 12*n {
-		return powerduration.RideCurve{}, fmt.Errorf("damaged curve: %d bytes, want %d", len(raw), 12*n)
-	}
-	c := powerduration.RideCurve{Source: powerduration.SourceOf(r), Watts: make([]float64, n), OffsetsS: make([]int32, n)}
-	for i := range n {
-		c.Watts[i] = math.Float64frombits(binary.LittleEndian.Uint64(raw[12*i:]))
-		c.OffsetsS[i] = int32(binary.LittleEndian.Uint32(raw[12*i+8:]))
-	}
-	return c, nil
-}
-
-// The blobs are stored as they are: inflating compressed ones cost more
-// than reading them (a warm re-scan spent most of its time in the
-// decompressor).
-func inflate(b []byte, n int) ([]byte, error) {
-	if len(b) != n {
-		return nil, fmt.Errorf("damaged record: %d bytes, want %d", len(b), n)
-	}
-	return b, nil
 }

@@ -333,13 +333,15 @@ func TestCorruptedStoreNeverLies(t *testing.T) {
 // A stored row of any bytes never panics its check, and a row that passes
 // holds a curve within the physical bounds.
 func FuzzStoredRow(f *testing.F) {
-	f.Add("2026-03-02T08:00:00Z", "cycling", 4, `{"seconds":4}`, make([]byte, 48), int64(0))
-	f.Add("x", "", -1, `{`, []byte{1, 2, 3}, int64(7))
-	f.Fuzz(func(t *testing.T, start, sport string, seconds int, qual string, curve []byte, sum int64) {
+	good := encodeCurve(powerduration.RideCurve{Watts: []float64{300, 250, 200, 150}, OffsetsS: []int32{0, 0, 0, 0}})
+	f.Add("2026-03-02T08:00:00Z", "cycling", 4, []byte{0, 0, 0, 0}, "", good, int64(0))
+	f.Add("x", "", -1, []byte{9, 200}, "note", []byte{1, 2, 3}, int64(7))
+	f.Fuzz(func(t *testing.T, start, sport string, seconds int, lists []byte, notes string, curve []byte, sum int64) {
 		for _, withSum := range []bool{false, true} {
-			x := stored{start: start, sport: sport, seconds: seconds, qual: qual, curve: curve, sum: sum}
+			q := qualityRow{samples: int64(seconds), coverage: 1, lists: lists, notes: notes}
+			x := stored{start: start, sport: sport, seconds: seconds, qual: q, curve: curve, sum: sum}
 			if withSum {
-				x.sum = rowSum(start, sport, seconds, qual, curve)
+				x.sum = rowSum(start, sport, seconds, &q, curve)
 			}
 			_, c, err := x.check("f.fit", ingest.Options{})
 			if err != nil {

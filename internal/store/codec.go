@@ -1,0 +1,329 @@
+package store
+
+import (
+	"encoding/binary"
+	"errors"
+	"fmt"
+	"math"
+	"strings"
+
+	"github.com/sustain-cycling/sustain/ingest"
+	"github.com/sustain-cycling/sustain/powerduration"
+)
+
+// How a ride is kept, compactly and exactly:
+//
+//   - power: cleaning keeps it to 0.1 W, so it is stored as whole tenths
+//     of a watt in two bytes a second (a value that is not, or is above
+//     6553.5 W, makes the ride's power eight bytes a second instead);
+//   - curve: a ride's best sum for each duration is a whole number of
+//     tenths of a watt-second (the curve is summed from that power), so
+//     each point is the change in that sum from the previous duration and
+//     the change in the window's offset, both as variable-length integers
+//     (about three bytes a point instead of twelve);
+//   - quality report: its counts in columns, its lists (gaps, dropouts,
+//     spikes, stuck runs) as variable-length integers in one blob.
+//
+// Each blob starts with a byte naming its layout.
+const (
+	layoutFloat64 = 0 // eight bytes a value, little-endian
+	layoutTenths  = 1 // power: uint16 tenths of a watt; curve: varint deltas of tenths sums and offsets
+)
+
+var errLayout = errors.New("damaged blob")
+
+// encodePower packs a ride's power.
+func encodePower(v []float64) []byte {
+	tenths := true
+	for _, x := range v {
+		t := math.Round(x * 10)
+		if !(t >= 0 && t <= math.MaxUint16) || math.Float64bits(t/10) != math.Float64bits(x) { // NaN fails
+			tenths = false
+			break
+		}
+	}
+	if !tenths {
+		raw := make([]byte, 1, 1+8*len(v))
+		raw[0] = layoutFloat64
+		for _, x := range v {
+			raw = binary.LittleEndian.AppendUint64(raw, math.Float64bits(x))
+		}
+		return raw
+	}
+	raw := make([]byte, 1, 1+2*len(v))
+	raw[0] = layoutTenths
+	for _, x := range v {
+		raw = binary.LittleEndian.AppendUint16(raw, uint16(math.Round(x*10)))
+	}
+	return raw
+}
+
+// decodePower unpacks n seconds of power.
+func decodePower(b []byte, n int) ([]float64, error) {
+	if len(b) == 0 {
+		return nil, errLayout
+	}
+	v := make([]float64, n)
+	switch body := b[1:]; {
+	case b[0] == layoutTenths && len(body) == 2*n:
+		for i := range v {
+			v[i] = float64(binary.LittleEndian.Uint16(body[2*i:])) / 10
+		}
+	case b[0] == layoutFloat64 && len(body) == 8*n:
+		for i := range v {
+			v[i] = math.Float64frombits(binary.LittleEndian.Uint64(body[8*i:]))
+		}
+	default:
+		return nil, fmt.Errorf("%w: power of %d bytes for %d s", errLayout, len(b), n)
+	}
+	return v, nil
+}
+
+// encodeCurve packs a ride's curve (its durations are the shared grid for
+// the ride's length).
+func encodeCurve(c powerduration.RideCurve) []byte {
+	ds := c.DurationsS()
+	sums := make([]int64, len(ds))
+	for i, d := range ds {
+		s := math.Round(c.Watts[i] * 10 * float64(d))
+		if s < 0 || s > 1<<52 || float64(int64(s))/(10*float64(d)) != c.Watts[i] {
+			sums = nil
+			break
+		}
+		sums[i] = int64(s)
+	}
+	raw := make([]byte, 0, 1+4*len(ds))
+	if sums == nil {
+		raw = append(raw, layoutFloat64)
+		prev := int64(0)
+		for i := range ds {
+			raw = binary.LittleEndian.AppendUint64(raw, math.Float64bits(c.Watts[i]))
+			raw = binary.AppendVarint(raw, int64(c.OffsetsS[i])-prev)
+			prev = int64(c.OffsetsS[i])
+		}
+		return raw
+	}
+	raw = append(raw, layoutTenths)
+	var prevSum, prevOff int64
+	for i := range ds {
+		raw = binary.AppendVarint(raw, sums[i]-prevSum)
+		raw = binary.AppendVarint(raw, int64(c.OffsetsS[i])-prevOff)
+		prevSum, prevOff = sums[i], int64(c.OffsetsS[i])
+	}
+	return raw
+}
+
+// decodeCurve unpacks the curve of ride r (its length and source set).
+func decodeCurve(raw []byte, r *ingest.Ride) (powerduration.RideCurve, error) {
+	ds := powerduration.Durations(r.Quality.Seconds)
+	c := powerduration.RideCurve{Source: powerduration.SourceOf(r), Watts: make([]float64, len(ds)), OffsetsS: make([]int32, len(ds))}
+	if len(raw) == 0 {
+		return c, errLayout
+	}
+	layout, b := raw[0], raw[1:]
+	if layout != layoutTenths && layout != layoutFloat64 {
+		return c, errLayout
+	}
+	var sum, off int64
+	p := 0
+	for i, d := range ds {
+		if layout == layoutTenths {
+			if u, n := shortUvarint(b, p); n > 0 { // the usual case, inline
+				sum, p = sum+(int64(u>>1)^-int64(u&1)), p+n
+			} else if delta, q, ok := varint(b, p); ok {
+				sum, p = sum+delta, q
+			} else {
+				return c, errLayout
+			}
+			c.Watts[i] = float64(sum) / (10 * float64(d))
+		} else {
+			if len(b)-p < 8 {
+				return c, errLayout
+			}
+			c.Watts[i] = math.Float64frombits(binary.LittleEndian.Uint64(b[p:]))
+			p += 8
+		}
+		if u, n := shortUvarint(b, p); n > 0 {
+			off, p = off+(int64(u>>1)^-int64(u&1)), p+n
+		} else if delta, q, ok := varint(b, p); ok {
+			off, p = off+delta, q
+		} else {
+			return c, errLayout
+		}
+		if off < 0 || off > math.MaxInt32 {
+			return c, errLayout
+		}
+		c.OffsetsS[i] = int32(off)
+	}
+	if p != len(b) {
+		return c, errLayout
+	}
+	return c, nil
+}
+
+// varint reads the signed variable-length integer at b[p:] and the
+// position after it; one or two bytes (most of a curve) are read inline.
+func varint(b []byte, p int) (int64, int, bool) {
+	u, n := shortUvarint(b, p)
+	if n == 0 {
+		if p >= len(b) {
+			return 0, p, false
+		}
+		if u, n = binary.Uvarint(b[p:]); n <= 0 {
+			return 0, p, false
+		}
+	}
+	return int64(u>>1) ^ -int64(u&1), p + n, true
+}
+
+// shortUvarint reads a variable-length integer of one or two bytes at
+// b[p:], or returns n = 0.
+func shortUvarint(b []byte, p int) (u uint64, n int) {
+	if p+1 < len(b) && b[p] < 0x80 {
+		return uint64(b[p]), 1
+	}
+	if p+2 < len(b) && b[p+1] < 0x80 {
+		return uint64(b[p]&0x7f) | uint64(b[p+1])<<7, 2
+	}
+	return 0, 0
+}
+
+// qualityRow is a quality report as the store keeps it: counts in columns,
+// lists in one blob, notes one a line.
+type qualityRow struct {
+	samples, gapS, dropoutS, filledS, spikes, invalid, reversals, outliers int64
+	coverage, intervalS, fallbackOffsetS                                   float64
+	flags                                                                  int64 // truncated, dated by fallback, salvaged
+	lists                                                                  []byte
+	notes                                                                  string
+}
+
+const (
+	flagTruncated = 1 << iota
+	flagDatedByFallback
+	flagSalvaged
+)
+
+// qualityColumns are the rides table's columns of a qualityRow, in order.
+const qualityColumns = `samples, coverage, interval_s, gap_s, dropout_s, filled_s, spikes_removed, invalid_values,
+	time_reversals, time_outliers, flags, fallback_offset_s, quality_lists, notes`
+
+// fields are the row's columns, for Scan (in qualityColumns' order).
+func (q *qualityRow) fields() []any {
+	return []any{&q.samples, &q.coverage, &q.intervalS, &q.gapS, &q.dropoutS, &q.filledS, &q.spikes, &q.invalid,
+		&q.reversals, &q.outliers, &q.flags, &q.fallbackOffsetS, &q.lists, &q.notes}
+}
+
+// values are the row's columns, for Exec (in qualityColumns' order).
+func (q *qualityRow) values() []any {
+	return []any{q.samples, q.coverage, q.intervalS, q.gapS, q.dropoutS, q.filledS, q.spikes, q.invalid,
+		q.reversals, q.outliers, q.flags, q.fallbackOffsetS, q.lists, q.notes}
+}
+
+// checksummed is the row as its checksum reads it.
+func (q *qualityRow) checksummed() []byte {
+	b := make([]byte, 0, 128+len(q.lists)+len(q.notes))
+	for _, v := range []int64{q.samples, q.gapS, q.dropoutS, q.filledS, q.spikes, q.invalid, q.reversals, q.outliers, q.flags} {
+		b = binary.AppendVarint(b, v)
+	}
+	for _, v := range []float64{q.coverage, q.intervalS, q.fallbackOffsetS} {
+		b = binary.LittleEndian.AppendUint64(b, math.Float64bits(v))
+	}
+	b = binary.AppendUvarint(b, uint64(len(q.lists)))
+	b = append(b, q.lists...)
+	return append(b, q.notes...)
+}
+
+func rowOfQuality(q *ingest.Quality) qualityRow {
+	row := qualityRow{samples: int64(q.Samples), gapS: int64(q.GapSeconds), dropoutS: int64(q.DropoutSeconds),
+		filledS: int64(q.FilledSeconds), spikes: int64(q.SpikesRemoved), invalid: int64(q.InvalidValues),
+		reversals: int64(q.TimeReversals), outliers: int64(q.TimeOutliers), coverage: q.PowerCoverage,
+		intervalS: q.RecordingIntervalS, fallbackOffsetS: q.FallbackOffsetS, notes: strings.Join(q.Notes, "\n")}
+	for bit, on := range map[int64]bool{flagTruncated: q.Truncated, flagDatedByFallback: q.DatedByFallback, flagSalvaged: q.Salvaged} {
+		if on {
+			row.flags |= bit
+		}
+	}
+	b := []byte{}
+	spans := func(ss []ingest.Span) {
+		b = binary.AppendUvarint(b, uint64(len(ss)))
+		for _, s := range ss {
+			b = binary.AppendUvarint(b, uint64(s.StartS))
+			b = binary.AppendUvarint(b, uint64(s.Seconds))
+		}
+	}
+	spans(q.Gaps)
+	spans(q.Dropouts)
+	b = binary.AppendUvarint(b, uint64(len(q.SpikeOffsetsS)))
+	for _, o := range q.SpikeOffsetsS {
+		b = binary.AppendUvarint(b, uint64(o))
+	}
+	b = binary.AppendUvarint(b, uint64(len(q.StuckRuns)))
+	for _, s := range q.StuckRuns {
+		b = binary.AppendUvarint(b, uint64(s.StartS))
+		b = binary.AppendUvarint(b, uint64(s.Seconds))
+		b = binary.LittleEndian.AppendUint64(b, math.Float64bits(s.Watts))
+	}
+	row.lists = b
+	return row
+}
+
+// quality unpacks the row into a report for a ride of the given seconds;
+// a list that does not fit the ride is damage.
+func (row *qualityRow) quality(seconds int) (ingest.Quality, error) {
+	q := ingest.Quality{Samples: int(row.samples), Seconds: seconds, PowerCoverage: row.coverage,
+		RecordingIntervalS: row.intervalS, GapSeconds: int(row.gapS), DropoutSeconds: int(row.dropoutS),
+		FilledSeconds: int(row.filledS), SpikesRemoved: int(row.spikes), InvalidValues: int(row.invalid),
+		TimeReversals: int(row.reversals), TimeOutliers: int(row.outliers), FallbackOffsetS: row.fallbackOffsetS,
+		Truncated: row.flags&flagTruncated != 0, DatedByFallback: row.flags&flagDatedByFallback != 0,
+		Salvaged: row.flags&flagSalvaged != 0}
+	if row.notes != "" {
+		q.Notes = strings.Split(row.notes, "\n")
+	}
+	b := row.lists
+	var bad bool
+	next := func(limit uint64) int {
+		v, n := binary.Uvarint(b)
+		if n <= 0 || v > limit {
+			bad = true
+			return 0
+		}
+		b = b[n:]
+		return int(v)
+	}
+	secs := uint64(seconds)
+	spans := func() []ingest.Span {
+		n := next(secs)
+		if n == 0 {
+			return nil // as cleaning leaves an empty list
+		}
+		out := make([]ingest.Span, n)
+		for i := range out {
+			out[i] = ingest.Span{StartS: next(secs), Seconds: next(secs)}
+			bad = bad || out[i].End() > seconds
+		}
+		return out
+	}
+	q.Gaps, q.Dropouts = spans(), spans()
+	if n := next(secs); n > 0 {
+		q.SpikeOffsetsS = make([]int, n)
+	}
+	for i := range q.SpikeOffsetsS {
+		q.SpikeOffsetsS[i] = next(secs)
+	}
+	if n := next(secs); n > 0 {
+		q.StuckRuns = make([]ingest.StuckRun, n)
+	}
+	for i := range q.StuckRuns {
+		s := &q.StuckRuns[i]
+		s.Span = ingest.Span{StartS: next(secs), Seconds: next(secs)}
+		if bad || len(b) < 8 || s.End() > seconds {
+			return q, errLayout
+		}
+		s.Watts, b = math.Float64frombits(binary.LittleEndian.Uint64(b)), b[8:]
+	}
+	if bad || len(b) != 0 {
+		return q, errLayout
+	}
+	return q, nil
+}
