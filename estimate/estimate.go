@@ -103,6 +103,9 @@ type Options struct {
 	// Differential selects the 2015 differential form of W′ balance
 	// (Skiba et al. 2015) instead of the 2012 integral form.
 	Differential bool
+	// NoAudit leaves out the W′ balance audit (a replay of every ride in
+	// the window), for callers that do not show it (a season's windows).
+	NoAudit bool
 }
 
 func (o *Options) defaults() {
@@ -223,7 +226,7 @@ func Estimate(rides []ingest.Ride, curves []powerduration.RideCurve, w powerdura
 	rep.Warnings = ctx.warnings(rep)
 	rep.Threshold = headline(rep, ctx, opts.Model)
 	rep.Advice = advise(rep, opts)
-	if rep.Threshold.Estimated() {
+	if rep.Threshold.Estimated() && !opts.NoAudit {
 		if f := rep.model(rep.Threshold.Model); f != nil {
 			rep.Audit = audit(inRides, *f, opts.Differential)
 		}

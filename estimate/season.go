@@ -99,9 +99,18 @@ func Season(rides []ingest.Ride, curves []powerduration.RideCurve, opts SeasonOp
 	if opts.Components == "" {
 		opts.Components = ModelCP2
 	}
+	// A ride lies in several overlapping windows: its power (kept in a
+	// store until needed) is read once for the run, and let go with it.
+	// The windows' W′ balance audits are not shown, so not replayed.
+	own := make([]ingest.Ride, len(rides))
+	for i := range rides {
+		own[i] = rides[i]
+		own[i].ReadPowerOnce()
+	}
+	opts.NoAudit = true
 	var rep SeasonReport
 	for _, w := range SeasonWindows(rides, opts.WindowDays, opts.StepDays) {
-		r := Estimate(rides, curves, w, opts.Options)
+		r := Estimate(own, curves, w, opts.Options)
 		rep.Windows = append(rep.Windows, seasonWindow(r, opts.Components))
 	}
 	rep.Changes, rep.OverallChanges, rep.Overall = changes(rep.Windows, opts.WindowDays/opts.StepDays)

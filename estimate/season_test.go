@@ -102,3 +102,44 @@ func TestSeasonWindowWithoutEfforts(t *testing.T) {
 		t.Errorf("last window %+v", last)
 	}
 }
+
+// A season reads each ride's power (left in a store) at most once, however
+// many windows the ride lies in, and gives the same windows as rides whose
+// power is in memory.
+func TestSeasonReadsPowerOnce(t *testing.T) {
+	base := synth.Athlete{CPW: 260, WPrimeJ: 21000, PmaxW: 1000}
+	var tracks []synth.Track // with spikes and stuck runs: efforts avoid them, reading the power
+	for _, f := range synth.Season("s", day0, 10, synth.Block(base, 25, 4000), 3) {
+		if f.Fault != "running" && f.Fault != "truncated" {
+			tracks = append(tracks, f.Track)
+		}
+	}
+	rides, curves := ridesOf(t, tracks)
+	want := Season(rides, curves, SeasonOptions{})
+	reads := make([]int, len(rides))
+	stored := make([]ingest.Ride, len(rides))
+	for i := range rides {
+		stored[i] = rides[i]
+		power := rides[i].PowerW
+		stored[i].LeavePower(func() ([]float64, error) { reads[i]++; return power, nil })
+	}
+	got := Season(stored, curves, SeasonOptions{})
+	read := 0
+	for i, n := range reads {
+		if n > 1 {
+			t.Errorf("ride %d: power read %d times", i, n)
+		}
+		read += n
+	}
+	if read == 0 {
+		t.Error("no ride's power was read (the test reads nothing)")
+	}
+	if len(got.Windows) != len(want.Windows) {
+		t.Fatalf("%d windows, want %d", len(got.Windows), len(want.Windows))
+	}
+	for i := range want.Windows {
+		if g, w := got.Windows[i], want.Windows[i]; g.CPW != w.CPW || g.WPrimeJ != w.WPrimeJ || g.Reason != w.Reason {
+			t.Errorf("window %d: %+v, want %+v", i, g, w)
+		}
+	}
+}

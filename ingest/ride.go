@@ -27,7 +27,10 @@
 // reason for every file it could not read.
 package ingest
 
-import "time"
+import (
+	"sync"
+	"time"
+)
 
 // Watts is a power in watts.
 type Watts = float64
@@ -111,6 +114,25 @@ func (r *Ride) Power() ([]Watts, error) {
 // when it is needed again.
 func (r *Ride) LeavePower(load func() ([]Watts, error)) {
 	r.PowerW, r.loadPower = nil, load
+}
+
+// ReadPowerOnce makes a ride whose power was left in a store fetch it at
+// most once: the first Power keeps it (and its error) for every later
+// call on this copy of the ride. A caller that reads the power many times
+// in one run (a season's overlapping windows) calls it on its own copies,
+// and the power goes when they do.
+func (r *Ride) ReadPowerOnce() {
+	if r.PowerW != nil || r.loadPower == nil {
+		return
+	}
+	load := r.loadPower
+	var once sync.Once
+	var power []Watts
+	var err error
+	r.loadPower = func() ([]Watts, error) {
+		once.Do(func() { power, err = load() })
+		return power, err
+	}
 }
 
 // Date returns the ride's start date as YYYY-MM-DD in the recorded time zone.
