@@ -32,6 +32,10 @@ type Options struct {
 	// Progress, when set, is called after each file with the count done and
 	// the total. It is called from one goroutine at a time.
 	Progress func(done, total int)
+	// AfterRead, when set, is called with each file's rides on the
+	// goroutine that decoded them, before the next file: the place to
+	// reduce a ride (its curve) and let its power go while the scan goes on.
+	AfterRead func(rides []Ride)
 }
 
 const defaultMaxDecompressed = 256 << 20

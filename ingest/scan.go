@@ -86,6 +86,9 @@ func Each(files []string, opts Options, fn func(i int, rides []Ride, err error))
 			defer wg.Done()
 			for i := range jobs {
 				rides, err := ReadFile(files[i], opts)
+				if err == nil && opts.AfterRead != nil {
+					opts.AfterRead(rides)
+				}
 				results <- out{i, rides, err}
 			}
 		}()

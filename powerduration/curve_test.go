@@ -1,7 +1,9 @@
 package powerduration
 
 import (
+	"fmt"
 	"math"
+	"os"
 	"math/rand/v2"
 	"os/exec"
 	"path/filepath"
@@ -408,6 +410,44 @@ func TestOfRideAvoidingMatchesScan(t *testing.T) {
 			if math.Abs(rc.Watts[i]-best) > 1e-9 || (best > 0 && int(rc.OffsetsS[i]) != at) {
 				t.Fatalf("trial %d, %d s: %.6f W at %d, scan %.6f W at %d (spans %v)", trial, d, rc.Watts[i], rc.OffsetsS[i], best, at, spans)
 			}
+		}
+	}
+}
+
+// Scan gives the rides and curves that reading and curving each ride
+// gives, with every ride's power let go and read again from its file on
+// demand.
+func TestScanLetsPowerGo(t *testing.T) {
+	dir := t.TempDir()
+	for k := range 3 {
+		p := fieldPower(1)
+		var b strings.Builder
+		b.WriteString("time,power\n")
+		start := time.Date(2026, 3, 1+k, 8, 0, 0, 0, time.UTC)
+		for i, w := range p {
+			fmt.Fprintf(&b, "%s,%.1f\n", start.Add(time.Duration(i)*time.Second).Format(time.RFC3339), w)
+		}
+		if err := os.WriteFile(filepath.Join(dir, fmt.Sprintf("ride%d.csv", k)), []byte(b.String()), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	plain := ingest.Scan([]string{dir}, ingest.Options{})
+	res, curves := Scan([]string{dir}, ingest.Options{})
+	if len(res.Rides) != 3 || len(plain.Rides) != 3 {
+		t.Fatalf("%d rides, want 3", len(res.Rides))
+	}
+	for i := range res.Rides {
+		r := &res.Rides[i]
+		if r.PowerW != nil {
+			t.Errorf("%s: power kept in memory", r.File)
+		}
+		want := OfRide(&plain.Rides[i])
+		if !equalCurves(curves[i].Curve(), want.Curve()) {
+			t.Errorf("%s: curve differs from the ride's own", r.File)
+		}
+		p, err := r.Power()
+		if err != nil || !slices.Equal(p, plain.Rides[i].PowerW) {
+			t.Errorf("%s: power read again: %v", r.File, err)
 		}
 	}
 }

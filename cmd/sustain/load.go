@@ -171,8 +171,8 @@ func scanAll(c *cli.Context, paths []string) (ingest.Result, []powerduration.Rid
 		}
 		fmt.Fprintf(c.App.ErrWriter, "sustain: store %s: %v; reading every file without it\n", st.Path, err)
 	}
-	res := ingest.Scan(paths, opts)
-	return res, powerduration.OfRides(res.Rides, opts.Workers), nil
+	res, curves := powerduration.Scan(paths, opts)
+	return res, curves, nil
 }
 
 // reportSkipped writes one line per skipped file to w.
