@@ -3,8 +3,8 @@ package powerduration
 import (
 	"fmt"
 	"math"
-	"os"
 	"math/rand/v2"
+	"os"
 	"os/exec"
 	"path/filepath"
 	"slices"
