@@ -78,25 +78,20 @@ func tightLoop(power []float64, ds []int) []float64 {
 
 // Targets (issue 15): on every shape at most 0.25× the tight loop (make
 // bench prints the ratios); a 2-h field ride ≤ 1.5 ms, a 6-h one ≤ 4 ms.
-func BenchmarkCurve(b *testing.B) {
-	for _, shape := range rideShapes {
-		p := shape.power()
-		ds := Durations(len(p))
-		b.Run(shape.name, func(b *testing.B) {
-			for b.Loop() {
-				MeanMax(p, ds)
-			}
-		})
-	}
-}
+func BenchmarkCurve(b *testing.B) { benchShapes(b, func(p []float64, ds []int) { MeanMax(p, ds) }) }
 
 func BenchmarkCurveTightLoop(b *testing.B) {
+	benchShapes(b, func(p []float64, ds []int) { tightLoop(p, ds) })
+}
+
+// benchShapes runs curve on every ride shape, over the shared grid.
+func benchShapes(b *testing.B, curve func(power []float64, ds []int)) {
 	for _, shape := range rideShapes {
 		p := shape.power()
 		ds := Durations(len(p))
 		b.Run(shape.name, func(b *testing.B) {
 			for b.Loop() {
-				tightLoop(p, ds)
+				curve(p, ds)
 			}
 		})
 	}
