@@ -88,6 +88,23 @@ func (c *capReader) Read(p []byte) (int, error) {
 	return k, err
 }
 
+// ReadPowerAgain reads one ride's power from its file again (a ride whose
+// power was let go): the session of that length, or an error when the
+// file can no longer be read or has changed.
+func ReadPowerAgain(path string, session, seconds int, opts Options) ([]Watts, error) {
+	opts.AfterRead, opts.Progress = nil, nil
+	rides, err := ReadFile(path, opts)
+	if err != nil {
+		return nil, err
+	}
+	for _, r := range rides {
+		if r.Session == session && len(r.PowerW) == seconds {
+			return r.PowerW, nil
+		}
+	}
+	return nil, fmt.Errorf("%s: the file has changed since it was read", path)
+}
+
 // ReadFile reads every ride in the file at path. Errors are *FileError.
 func ReadFile(path string, opts Options) ([]Ride, error) {
 	f, mtime, err := open(path)

@@ -1,7 +1,6 @@
 package powerduration
 
 import (
-	"fmt"
 	"sync"
 
 	"github.com/sustain-cycling/sustain/ingest"
@@ -26,7 +25,8 @@ func Scan(paths []string, opts ingest.Options) (ingest.Result, []RideCurve) {
 			r := &rides[i]
 			c := OfRide(r)
 			r.HeartRateBPM, r.CadenceRPM = nil, nil
-			r.LeavePower(readAgain(r.File, r.Session, len(r.PowerW), opts))
+			file, session, seconds := r.File, r.Session, len(r.PowerW)
+			r.LeavePower(func() ([]float64, error) { return ingest.ReadPowerAgain(file, session, seconds, opts) })
 			mu.Lock()
 			byRide[key{r.File, r.Session}] = c
 			mu.Unlock()
@@ -40,21 +40,4 @@ func Scan(paths []string, opts ingest.Options) (ingest.Result, []RideCurve) {
 		curves[i].Source = SourceOf(r)
 	}
 	return res, curves
-}
-
-// readAgain fetches one ride's power by reading its file again.
-func readAgain(path string, session, seconds int, opts ingest.Options) func() ([]float64, error) {
-	opts.AfterRead, opts.Progress = nil, nil
-	return func() ([]float64, error) {
-		rides, err := ingest.ReadFile(path, opts)
-		if err != nil {
-			return nil, err
-		}
-		for _, r := range rides {
-			if r.Session == session && len(r.PowerW) == seconds {
-				return r.PowerW, nil
-			}
-		}
-		return nil, fmt.Errorf("%s: the file has changed since it was read", path)
-	}
 }

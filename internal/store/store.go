@@ -767,16 +767,11 @@ func (s *Store) powerLoader(path, hash, key string, session, seconds int, opts i
 				return v, nil
 			}
 		}
-		rides, rerr := ingest.ReadFile(path, opts)
+		power, rerr := ingest.ReadPowerAgain(path, session, seconds, opts)
 		if rerr != nil {
-			return nil, fmt.Errorf("store %s: the power of %s fails its check, and the file cannot be read again (%v)", s.Path, path, rerr)
+			return nil, fmt.Errorf("store %s: the power of %s fails its check, and it cannot be read again from the file (%v)", s.Path, path, rerr)
 		}
-		for _, r := range rides {
-			if r.Session == session && len(r.PowerW) == seconds {
-				return r.PowerW, nil
-			}
-		}
-		return nil, fmt.Errorf("store %s: the power of %s fails its check, and the file has changed", s.Path, path)
+		return power, nil
 	}
 }
 
