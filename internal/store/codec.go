@@ -18,16 +18,17 @@ import (
 //     6553.5 W, makes the ride's power eight bytes a second instead);
 //   - curve: a ride's best sum for each duration is a whole number of
 //     tenths of a watt-second (the curve is summed from that power), so
-//     each point is the change in that sum from the previous duration and
-//     the change in the window's offset, both as variable-length integers
-//     (about three bytes a point instead of twelve);
+//     each point is the change in that sum from the previous duration
+//     (two bytes) and the change in the window's offset (a variable-length
+//     integer, mostly one byte): about three bytes a point instead of
+//     twelve (see encodeCurve);
 //   - quality report: its counts in columns, its lists (gaps, dropouts,
 //     spikes, stuck runs) as variable-length integers in one blob.
 //
 // Each blob starts with a byte naming its layout.
 const (
 	layoutFloat64 = 0 // eight bytes a value, little-endian
-	layoutTenths  = 1 // power: uint16 tenths of a watt; curve: varint deltas of tenths sums and offsets
+	layoutTenths  = 1 // power: uint16 tenths of a watt; curve: changes of tenths sums and of offsets
 )
 
 var errLayout = errors.New("damaged blob")
@@ -80,7 +81,11 @@ func decodePower(b []byte, n int) ([]float64, error) {
 }
 
 // encodeCurve packs a ride's curve (its durations are the shared grid for
-// the ride's length).
+// the ride's length). In whole tenths: the changes of the best sum from
+// one duration to the next, as two bytes each while they fit (every
+// second up to an hour, unless power passed 6553 W), then as varints;
+// then the changes of the offsets, as varints. Two streams read without
+// waiting on each other, about three bytes a point.
 func encodeCurve(c powerduration.RideCurve) []byte {
 	ds := c.DurationsS()
 	sums := make([]int64, len(ds))
@@ -92,25 +97,42 @@ func encodeCurve(c powerduration.RideCurve) []byte {
 		}
 		sums[i] = int64(s)
 	}
-	raw := make([]byte, 0, 1+4*len(ds))
+	raw := make([]byte, 0, 8+4*len(ds))
 	if sums == nil {
 		raw = append(raw, layoutFloat64)
-		prev := int64(0)
 		for i := range ds {
 			raw = binary.LittleEndian.AppendUint64(raw, math.Float64bits(c.Watts[i]))
-			raw = binary.AppendVarint(raw, int64(c.OffsetsS[i])-prev)
-			prev = int64(c.OffsetsS[i])
 		}
-		return raw
+	} else {
+		raw = append(raw, layoutTenths)
+		short := 0 // the points whose change fits two bytes
+		for short < len(sums) {
+			if delta := sums[short] - prevOf(sums, short); delta < 0 || delta > math.MaxUint16 {
+				break
+			}
+			short++
+		}
+		raw = binary.AppendUvarint(raw, uint64(short))
+		for i := range short {
+			raw = binary.LittleEndian.AppendUint16(raw, uint16(sums[i]-prevOf(sums, i)))
+		}
+		for i := short; i < len(sums); i++ {
+			raw = binary.AppendVarint(raw, sums[i]-prevOf(sums, i))
+		}
 	}
-	raw = append(raw, layoutTenths)
-	var prevSum, prevOff int64
-	for i := range ds {
-		raw = binary.AppendVarint(raw, sums[i]-prevSum)
-		raw = binary.AppendVarint(raw, int64(c.OffsetsS[i])-prevOff)
-		prevSum, prevOff = sums[i], int64(c.OffsetsS[i])
+	prev := int64(0)
+	for _, off := range c.OffsetsS {
+		raw = binary.AppendVarint(raw, int64(off)-prev)
+		prev = int64(off)
 	}
 	return raw
+}
+
+func prevOf(v []int64, i int) int64 {
+	if i == 0 {
+		return 0
+	}
+	return v[i-1]
 }
 
 // decodeCurve unpacks the curve of ride r (its length and source set).
@@ -120,30 +142,42 @@ func decodeCurve(raw []byte, r *ingest.Ride) (powerduration.RideCurve, error) {
 	if len(raw) == 0 {
 		return c, errLayout
 	}
-	layout, b := raw[0], raw[1:]
-	if layout != layoutTenths && layout != layoutFloat64 {
+	b, p := raw[1:], 0
+	switch raw[0] {
+	case layoutTenths:
+		u, n := binary.Uvarint(b)
+		if n <= 0 || u > uint64(len(ds)) || len(b)-n < 2*int(u) {
+			return c, errLayout
+		}
+		short, fixed := int(u), b[n:n+2*int(u)]
+		var sum int64
+		for i, d := range ds[:short] {
+			sum += int64(binary.LittleEndian.Uint16(fixed[2*i:]))
+			c.Watts[i] = float64(sum) / (10 * float64(d))
+		}
+		p = n + 2*short
+		for i := short; i < len(ds); i++ {
+			delta, q, ok := varint(b, p)
+			if !ok {
+				return c, errLayout
+			}
+			sum, p = sum+delta, q
+			c.Watts[i] = float64(sum) / (10 * float64(ds[i]))
+		}
+	case layoutFloat64:
+		if len(b) < 8*len(ds) {
+			return c, errLayout
+		}
+		for i := range ds {
+			c.Watts[i] = math.Float64frombits(binary.LittleEndian.Uint64(b[8*i:]))
+		}
+		p = 8 * len(ds)
+	default:
 		return c, errLayout
 	}
-	var sum, off int64
-	p := 0
-	for i, d := range ds {
-		if layout == layoutTenths {
-			if u, n := shortUvarint(b, p); n > 0 { // the usual case, inline
-				sum, p = sum+(int64(u>>1)^-int64(u&1)), p+n
-			} else if delta, q, ok := varint(b, p); ok {
-				sum, p = sum+delta, q
-			} else {
-				return c, errLayout
-			}
-			c.Watts[i] = float64(sum) / (10 * float64(d))
-		} else {
-			if len(b)-p < 8 {
-				return c, errLayout
-			}
-			c.Watts[i] = math.Float64frombits(binary.LittleEndian.Uint64(b[p:]))
-			p += 8
-		}
-		if u, n := shortUvarint(b, p); n > 0 {
+	var off int64
+	for i := range ds {
+		if u, n := shortUvarint(b, p); n > 0 { // the usual case, inline
 			off, p = off+(int64(u>>1)^-int64(u&1)), p+n
 		} else if delta, q, ok := varint(b, p); ok {
 			off, p = off+delta, q

@@ -293,7 +293,7 @@ type entry struct {
 	// decoded again and its rows replaced
 	repaired bool
 	known    bool // path, size and mtime matched the files table
-	loaded   bool // answered by bulkLoad; raws still to unpack
+	loaded   bool // answered by bulkLoad (repaired: its rows failed their check)
 	raws     []stored
 }
 
@@ -388,13 +388,13 @@ func (s *Store) scan(paths []string, opts ingest.Options) (ingest.Result, []powe
 	if err := s.lookupHashes(es); err != nil {
 		return ingest.Result{}, nil, st, err
 	}
-	if err := s.bulkLoad(es, key); err != nil {
-		return ingest.Result{}, nil, st, err
-	}
 	// decode or load each file on a bounded pool
 	workers := opts.Workers
 	if workers <= 0 {
 		workers = runtime.NumCPU()
+	}
+	if err := s.bulkLoad(es, key, opts, workers); err != nil {
+		return ingest.Result{}, nil, st, err
 	}
 	// one writer stores fresh results in batches, then lets their power go
 	// (it stays in the store until something needs it)
@@ -526,12 +526,10 @@ func (s *Store) lookupHashes(es []entry) error {
 
 // resolve loads the file's result from the store, or decodes it.
 func (s *Store) resolve(e *entry, key string, opts ingest.Options) error {
-	if e.loaded {
-		if e.reason != "" || e.unpack(s, key, opts) {
-			return nil
-		}
-		e.loaded, e.repaired = false, true // decoded again below
+	if e.loaded && !e.repaired {
+		return nil // answered by bulkLoad: a reason, or rides unpacked
 	}
+	e.loaded = false
 	if e.hash == "" {
 		// hashed as a stream: a file is never held whole in memory
 		h, err := ingest.HashFile(e.path)
@@ -672,8 +670,11 @@ func (x stored) check(path string, opts ingest.Options) (ingest.Ride, powerdurat
 }
 
 // bulkLoad answers, with two queries, every entry whose hash the files
-// table knew; the blobs are unpacked later, in parallel.
-func (s *Store) bulkLoad(es []entry, key string) error {
+// table knew. Each file's rows are unpacked (checked and decoded) on
+// `workers` goroutines as soon as they are read, while the query goes on;
+// an entry whose rows fail their check is left unanswered (and marked
+// repaired), for resolve to decode again once the query is done.
+func (s *Store) bulkLoad(es []entry, key string, opts ingest.Options, workers int) error {
 	byHash := map[string][]*entry{}
 	var hashes []string
 	for i := range es {
@@ -703,43 +704,70 @@ func (s *Store) bulkLoad(es []entry, key string) error {
 			return err
 		}
 		reasons[h] = reason
-	}
-	rows.Close()
-	if err := rows.Err(); err != nil {
-		return err
-	}
-	raws := map[string][]stored{}
-	rows, err = s.db.Query(`SELECT sha256, `+storedColumns+` FROM rides
-		WHERE options = ? AND sha256 IN (SELECT value FROM json_each(?)) ORDER BY sha256, session`, key, string(list))
-	if err != nil {
-		return err
-	}
-	for rows.Next() {
-		var h string
-		var x stored
-		var curve sql.RawBytes
-		if err := rows.Scan(append([]any{&h}, x.fields(&curve)...)...); err != nil {
-			rows.Close()
-			return err
-		}
-		x.keep(curve)
-		raws[h] = append(raws[h], x)
-	}
-	rows.Close()
-	if err := rows.Err(); err != nil {
-		return err
-	}
-	for h, reason := range reasons {
-		for _, e := range byHash[h] {
-			switch {
-			case reason != "":
+		if reason != "" {
+			for _, e := range byHash[h] {
 				e.reason, e.loaded = reason, true
-			case len(raws[h]) > 0:
-				e.raws, e.loaded = raws[h], true
 			}
 		}
 	}
-	return nil
+	rows.Close()
+	if err := rows.Err(); err != nil {
+		return err
+	}
+	work := make(chan *entry, 64)
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for e := range work {
+				if !e.unpack(s, key, opts) {
+					e.repaired = true // decoded again by resolve
+				}
+			}
+		}()
+	}
+	// rows come ordered by hash: a hash's rows are complete when the next
+	// hash starts
+	var h string
+	var raws []stored
+	flush := func() {
+		if reason, ok := reasons[h]; ok && reason == "" && len(raws) > 0 {
+			for _, e := range byHash[h] {
+				e.raws, e.loaded = raws, true
+				work <- e
+			}
+		}
+		raws = nil
+	}
+	rows, err = s.db.Query(`SELECT sha256, `+storedColumns+` FROM rides
+		WHERE options = ? AND sha256 IN (SELECT value FROM json_each(?)) ORDER BY sha256, session`, key, string(list))
+	if err == nil {
+		for rows.Next() {
+			var rh string
+			var x stored
+			var curve sql.RawBytes
+			if err = rows.Scan(append([]any{&rh}, x.fields(&curve)...)...); err != nil {
+				break
+			}
+			if rh != h {
+				flush()
+				h = rh
+			}
+			x.keep(curve)
+			raws = append(raws, x)
+		}
+		if err == nil {
+			err = rows.Err()
+		}
+		rows.Close()
+		if err == nil {
+			flush()
+		}
+	}
+	close(work)
+	wg.Wait()
+	return err
 }
 
 // leavePower drops the power of freshly decoded rides (and the heart rate
