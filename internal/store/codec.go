@@ -135,10 +135,36 @@ func prevOf(v []int64, i int) int64 {
 	return v[i-1]
 }
 
-// decodeCurve unpacks the curve of ride r (its length and source set).
-func decodeCurve(raw []byte, r *ingest.Ride) (powerduration.RideCurve, error) {
-	ds := powerduration.Durations(r.Quality.Seconds)
-	c := powerduration.RideCurve{Source: powerduration.SourceOf(r), Watts: make([]float64, len(ds)), OffsetsS: make([]int32, len(ds))}
+// curveSlab hands out the columns of many curves from a few large
+// allocations (one goroutine's: not safe for concurrent use); nil
+// allocates each curve on its own.
+type curveSlab struct {
+	watts   []float64
+	offsets []int32
+}
+
+const slabPoints = 1 << 16
+
+func (sl *curveSlab) take(n int) ([]float64, []int32) {
+	if sl == nil || n > slabPoints {
+		return make([]float64, n), make([]int32, n)
+	}
+	if len(sl.watts) < n {
+		sl.watts, sl.offsets = make([]float64, slabPoints), make([]int32, slabPoints)
+	}
+	w, o := sl.watts[:n:n], sl.offsets[:n:n]
+	sl.watts, sl.offsets = sl.watts[n:], sl.offsets[n:]
+	return w, o
+}
+
+// decodeCurve unpacks the curve of ride r (its length and source set),
+// checking every point against the physical bounds: watts from 0 to
+// ceilW, windows inside the ride.
+func decodeCurve(raw []byte, r *ingest.Ride, ceilW float64, sl *curveSlab) (powerduration.RideCurve, error) {
+	seconds := r.Quality.Seconds
+	ds := powerduration.Durations(seconds)
+	c := powerduration.RideCurve{Source: powerduration.SourceOf(r)}
+	c.Watts, c.OffsetsS = sl.take(len(ds))
 	if len(raw) == 0 {
 		return c, errLayout
 	}
@@ -176,7 +202,7 @@ func decodeCurve(raw []byte, r *ingest.Ride) (powerduration.RideCurve, error) {
 		return c, errLayout
 	}
 	var off int64
-	for i := range ds {
+	for i, d := range ds {
 		if u, n := shortUvarint(b, p); n > 0 { // the usual case, inline
 			off, p = off+(int64(u>>1)^-int64(u&1)), p+n
 		} else if delta, q, ok := varint(b, p); ok {
@@ -184,7 +210,7 @@ func decodeCurve(raw []byte, r *ingest.Ride) (powerduration.RideCurve, error) {
 		} else {
 			return c, errLayout
 		}
-		if off < 0 || off > math.MaxInt32 {
+		if w := c.Watts[i]; off < 0 || off+int64(d) > int64(seconds) || !(w >= 0 && w <= ceilW) { // NaN fails too
 			return c, errLayout
 		}
 		c.OffsetsS[i] = int32(off)

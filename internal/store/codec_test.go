@@ -36,14 +36,14 @@ func TestCodecsRoundTrip(t *testing.T) {
 		r.Quality.Seconds = len(p)
 		c := powerduration.OfRide(&r)
 		cb := encodeCurve(c)
-		got, err := decodeCurve(cb, &r)
+		got, err := decodeCurve(cb, &r, 10000, nil)
 		if err != nil || !reflect.DeepEqual(got.Watts, c.Watts) || !reflect.DeepEqual(got.OffsetsS, c.OffsetsS) {
 			t.Fatalf("%s: curve does not round-trip (%v)", name, err)
 		}
 		if name == "tenths" && len(cb) > 4*c.Len() {
 			t.Errorf("curve of %d points in %d bytes", c.Len(), len(cb))
 		}
-		if _, err := decodeCurve(cb[:len(cb)-1], &r); err == nil {
+		if _, err := decodeCurve(cb[:len(cb)-1], &r, ingest.DefaultSpikeCeilingW, nil); err == nil {
 			t.Errorf("%s: a cut curve decoded", name)
 		}
 	}

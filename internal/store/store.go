@@ -20,7 +20,6 @@ import (
 	"errors"
 	"fmt"
 	"hash/crc32"
-	"math"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -53,8 +52,8 @@ CREATE TABLE IF NOT EXISTS rides (
 	time_reversals INTEGER NOT NULL, time_outliers INTEGER NOT NULL,
 	flags INTEGER NOT NULL, fallback_offset_s REAL NOT NULL,
 	quality_lists BLOB NOT NULL, notes TEXT NOT NULL,
-	power BLOB NOT NULL, curve BLOB NOT NULL,
-	sum INTEGER NOT NULL, power_sum INTEGER NOT NULL,
+	sum INTEGER NOT NULL, power_sum INTEGER NOT NULL, curve BLOB NOT NULL,
+	power BLOB NOT NULL,
 	PRIMARY KEY (sha256, options, session));
 `
 
@@ -308,12 +307,12 @@ type stored struct {
 
 // storedColumns are the rides table's columns a scan reads, in the order
 // of stored.fields.
-const storedColumns = `session, start, sport, seconds, ` + qualityColumns + `, curve, sum`
+const storedColumns = `session, start, sport, seconds, ` + qualityColumns + `, sum, curve`
 
 // fields are the row's columns, for Scan; the curve is scanned without a
 // copy (sql.RawBytes), and copied once by keep.
 func (x *stored) fields(curve *sql.RawBytes) []any {
-	return append(append([]any{&x.session, &x.start, &x.sport, &x.seconds}, x.qual.fields()...), curve, &x.sum)
+	return append(append([]any{&x.session, &x.start, &x.sport, &x.seconds}, x.qual.fields()...), &x.sum, curve)
 }
 
 // keep copies what was scanned without a copy, before the next row.
@@ -600,7 +599,7 @@ func (s *Store) load(e *entry, key string, opts ingest.Options) (found bool, err
 		return false, nil // a results row without rides: decode again
 	}
 	e.raws = raws
-	if !e.unpack(s, key, opts) {
+	if !e.unpack(s, key, opts, nil) {
 		e.repaired = true
 		return false, nil
 	}
@@ -611,11 +610,11 @@ func (s *Store) load(e *entry, key string, opts ingest.Options) (found bool, err
 // store until needed) and curves. A row that fails its checksum or the
 // physical bounds leaves the entry unanswered (ok false), to be decoded
 // again from its file.
-func (e *entry) unpack(s *Store, key string, opts ingest.Options) (ok bool) {
+func (e *entry) unpack(s *Store, key string, opts ingest.Options, sl *curveSlab) (ok bool) {
 	var rides []ingest.Ride
 	var curves []powerduration.RideCurve
 	for _, x := range e.raws {
-		r, c, err := x.check(e.path, opts)
+		r, c, err := x.check(e.path, opts, sl)
 		if err != nil {
 			e.raws, e.rides, e.curves = nil, nil, nil
 			return false
@@ -637,7 +636,7 @@ func (e *entry) unpack(s *Store, key string, opts ingest.Options) (ok bool) {
 // check verifies a stored row and turns it into a ride and its curve:
 // its checksum, its time, quality report and curve within physical
 // bounds (watts finite, 0 to the spike ceiling; offsets inside the ride).
-func (x stored) check(path string, opts ingest.Options) (ingest.Ride, powerduration.RideCurve, error) {
+func (x stored) check(path string, opts ingest.Options, sl *curveSlab) (ingest.Ride, powerduration.RideCurve, error) {
 	bad := func(what string) (ingest.Ride, powerduration.RideCurve, error) {
 		return ingest.Ride{}, powerduration.RideCurve{}, fmt.Errorf("store: %s: stored %s fails its check", path, what)
 	}
@@ -655,16 +654,9 @@ func (x stored) check(path string, opts ingest.Options) (ingest.Ride, powerdurat
 	if r.Quality, err = x.qual.quality(x.seconds); err != nil {
 		return bad("quality report")
 	}
-	c, err := decodeCurve(x.curve, &r)
+	c, err := decodeCurve(x.curve, &r, ceiling(opts), sl)
 	if err != nil {
 		return bad("curve")
-	}
-	ceil := ceiling(opts)
-	for i, d := range c.DurationsS() {
-		w, off := c.Watts[i], int(c.OffsetsS[i])
-		if math.IsNaN(w) || w < 0 || w > ceil || off < 0 || off+d > x.seconds {
-			return bad("curve point")
-		}
 	}
 	return r, c, nil
 }
@@ -721,7 +713,7 @@ func (s *Store) bulkLoad(es []entry, key string, opts ingest.Options, workers in
 		go func() {
 			defer wg.Done()
 			for e := range work {
-				if !e.unpack(s, key, opts) {
+				if !e.unpack(s, key, opts, nil) {
 					e.repaired = true // decoded again by resolve
 				}
 			}
@@ -838,8 +830,8 @@ func (s *Store) write(es []*entry, key string) error {
 			q := rowOfQuality(&r.Quality)
 			start, power, curve := r.Start.Format(time.RFC3339Nano), encodePower(r.PowerW), encodeCurve(e.curves[k])
 			args := append([]any{e.hash, key, r.Session, start, r.Sport, len(r.PowerW)}, q.values()...)
-			args = append(args, power, curve, rowSum(start, r.Sport, len(r.PowerW), &q, curve), powerSum(power))
-			if _, err := tx.Exec(`INSERT OR REPLACE INTO rides (sha256, options, session, start, sport, seconds, `+qualityColumns+`, power, curve, sum, power_sum)
+			args = append(args, rowSum(start, r.Sport, len(r.PowerW), &q, curve), powerSum(power), curve, power)
+			if _, err := tx.Exec(`INSERT OR REPLACE INTO rides (sha256, options, session, start, sport, seconds, `+qualityColumns+`, sum, power_sum, curve, power)
 				VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`, args...); err != nil {
 				return err
 			}

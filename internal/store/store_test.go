@@ -343,7 +343,7 @@ func FuzzStoredRow(f *testing.F) {
 			if withSum {
 				x.sum = rowSum(start, sport, seconds, &q, curve)
 			}
-			_, c, err := x.check("f.fit", ingest.Options{})
+			_, c, err := x.check("f.fit", ingest.Options{}, nil)
 			if err != nil {
 				continue
 			}
