@@ -32,6 +32,10 @@ type Options struct {
 	// Progress, when set, is called after each file with the count done and
 	// the total. It is called from one goroutine at a time.
 	Progress func(done, total int)
+	// Only, when set, is asked of every file a scan lists: a file it
+	// refuses is not read (a command limited to a date window leaves out
+	// the files that cannot hold a ride in it; see PeekStart).
+	Only func(path string) bool
 	// AfterRead, when set, is called with each file's rides on the
 	// goroutine that decoded them, before the next file: the place to
 	// reduce a ride (its curve) and let its power go while the scan goes on.
@@ -92,7 +96,7 @@ func (c *capReader) Read(p []byte) (int, error) {
 // power was let go): the session of that length, or an error when the
 // file can no longer be read or has changed.
 func ReadPowerAgain(path string, session, seconds int, opts Options) ([]Watts, error) {
-	opts.AfterRead, opts.Progress = nil, nil
+	opts.AfterRead, opts.Progress, opts.Only = nil, nil, nil
 	rides, err := ReadFile(path, opts)
 	if err != nil {
 		return nil, err

@@ -45,6 +45,7 @@ type Result struct {
 // parallel on a bounded pool. Nothing is written anywhere.
 func Scan(paths []string, opts Options) Result {
 	files, skipped := ListFiles(paths)
+	files = opts.only(files)
 	var res Result
 	res.Skipped = skipped
 	perFile := make([][]Ride, len(files))
@@ -63,6 +64,24 @@ func Scan(paths []string, opts Options) Result {
 	sort.SliceStable(res.Skipped, func(a, b int) bool { return res.Skipped[a].File < res.Skipped[b].File })
 	return res
 }
+
+// only keeps the files opts.Only accepts (every file when it is unset).
+func (opts Options) only(files []string) []string {
+	if opts.Only == nil {
+		return files
+	}
+	var kept []string
+	for _, f := range files {
+		if opts.Only(f) {
+			kept = append(kept, f)
+		}
+	}
+	return kept
+}
+
+// Only keeps the files opts.Only accepts, for a scan that lists files
+// itself (the store's).
+func Only(files []string, opts Options) []string { return opts.only(files) }
 
 // Each decodes files on a pool of opts.Workers goroutines and calls fn once
 // per file, from one goroutine at a time, in no particular order.

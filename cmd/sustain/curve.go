@@ -105,7 +105,15 @@ func curveAction(c *cli.Context) error {
 	if c.Bool("reduce") {
 		res, curves, err = readCurveLines(c)
 	} else {
-		res, curves, err = scan(c)
+		// a window alone (not each ride's curve, no compared window): the
+		// files outside it are not decoded
+		var only func(string) bool
+		if !c.Bool("per-ride") && c.String("compare-from") == "" && c.String("compare-to") == "" {
+			if only, err = windowFilter(c, ""); err != nil {
+				return err
+			}
+		}
+		res, curves, err = scanIn(c, only)
 	}
 	if err != nil {
 		return err

@@ -97,7 +97,11 @@ func estimateAction(c *cli.Context) error {
 	if err := checkMassAndPlot(c); err != nil {
 		return err
 	}
-	res, curves, err := scan(c)
+	only, err := windowFilter(c, "90d")
+	if err != nil {
+		return err
+	}
+	res, curves, err := scanIn(c, only)
 	if err != nil {
 		return err
 	}

@@ -49,10 +49,55 @@ func ingestOptions(c *cli.Context) (ingest.Options, error) {
 
 // scan reads the rides under the command's path arguments.
 func scan(c *cli.Context) (ingest.Result, []powerduration.RideCurve, error) {
+	return scanIn(c, nil)
+}
+
+// scanIn is scan reading only the files only accepts (nil: every file).
+func scanIn(c *cli.Context, only func(string) bool) (ingest.Result, []powerduration.RideCurve, error) {
 	if c.NArg() == 0 {
 		return ingest.Result{}, nil, usageError{"name at least one ride file or folder"}
 	}
-	return scanPaths(c, c.Args().Slice())
+	res, curves, err := scanAll(c, c.Args().Slice(), only)
+	if err != nil || c.Bool("keep-duplicates") {
+		return res, curves, err
+	}
+	res, curves = dropDuplicates(res, curves)
+	return res, curves, nil
+}
+
+// windowFilter is, for a command limited to a date window (--from, --to,
+// --last, else defaultLast), which files to read: a FIT file whose start
+// (peeked from its first records, see ingest.PeekStart) lies more than a
+// day outside the window cannot hold a ride in it and is not decoded.
+// --last ends at the newest ride peeked; a ride in a file that cannot be
+// peeked can only move that end later, never bring a left-out file in.
+// nil when the window leaves every file in.
+func windowFilter(c *cli.Context, defaultLast string) (func(string) bool, error) {
+	files, _ := ingest.ListFiles(c.Args().Slice())
+	starts := make(map[string]string, len(files))
+	newest := ""
+	for _, f := range files {
+		if t, ok := ingest.PeekStart(f); ok {
+			d := t.Format("2006-01-02")
+			starts[f], newest = d, max(newest, d)
+		}
+	}
+	w, err := window(c, newest, defaultLast)
+	if err != nil || (w.From == "" && w.To == "") || len(starts) == 0 {
+		return nil, err
+	}
+	dayFrom := func(date string, days int) string {
+		t, err := powerduration.ParseDate(date)
+		if err != nil {
+			return ""
+		}
+		return t.AddDate(0, 0, days).Format("2006-01-02")
+	}
+	from, to := dayFrom(w.From, -1), dayFrom(w.To, 1)
+	return func(path string) bool {
+		d, ok := starts[path]
+		return !ok || ((from == "" || d >= from) && (to == "" || d <= to))
+	}, nil
 }
 
 // openStore opens the command's store once (nil with --no-store, or when it
@@ -101,13 +146,20 @@ func closeStore(app *cli.App) {
 // result's Duplicates (see powerduration.Duplicates), unless
 // --keep-duplicates.
 func scanPaths(c *cli.Context, paths []string) (ingest.Result, []powerduration.RideCurve, error) {
-	res, curves, err := scanAll(c, paths)
+	res, curves, err := scanAll(c, paths, nil)
 	if err != nil || c.Bool("keep-duplicates") {
 		return res, curves, err
 	}
+	res, curves = dropDuplicates(res, curves)
+	return res, curves, nil
+}
+
+// dropDuplicates leaves out the copies of rides (see
+// powerduration.Duplicates) and their curves.
+func dropDuplicates(res ingest.Result, curves []powerduration.RideCurve) (ingest.Result, []powerduration.RideCurve) {
 	drop, dups := powerduration.Duplicates(res.Rides, curves)
 	if len(dups) == 0 {
-		return res, curves, nil
+		return res, curves
 	}
 	k := 0
 	for i := range res.Rides {
@@ -118,17 +170,18 @@ func scanPaths(c *cli.Context, paths []string) (ingest.Result, []powerduration.R
 	}
 	res.Rides, curves = res.Rides[:k], curves[:k]
 	res.Duplicates = dups
-	return res, curves, nil
+	return res, curves
 }
 
 // scanAll reads the rides under paths and their curves, through the store
 // unless --no-store, with a progress bar on stderr for long walks when
 // stderr is a terminal.
-func scanAll(c *cli.Context, paths []string) (ingest.Result, []powerduration.RideCurve, error) {
+func scanAll(c *cli.Context, paths []string, only func(string) bool) (ingest.Result, []powerduration.RideCurve, error) {
 	opts, err := ingestOptions(c)
 	if err != nil {
 		return ingest.Result{}, nil, err
 	}
+	opts.Only = only
 	var bar *progressbar.ProgressBar
 	if f, ok := c.App.ErrWriter.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
 		opts.Progress = func(done, total int) {

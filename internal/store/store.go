@@ -375,6 +375,7 @@ func (s *Store) rebuild(cause error) (string, error) {
 
 func (s *Store) scan(paths []string, opts ingest.Options) (ingest.Result, []powerduration.RideCurve, Stats, error) {
 	files, skipped := ingest.ListFiles(paths)
+	files = ingest.Only(files, opts)
 	st := Stats{Files: len(files)}
 	key := optionsKey(opts)
 	es := make([]entry, len(files))
