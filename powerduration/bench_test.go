@@ -110,13 +110,13 @@ func benchCurves(n int) []RideCurve {
 	for k := range out {
 		b := base[k%len(base)]
 		f := 0.9 + 0.2*rng.Float64()
-		ws := make([]float64, len(b.Watts))
-		for i, w := range b.Watts {
-			ws[i] = math.Round(w*f*10) / 10
+		sums := make([]uint32, b.Len())
+		for i, s := range b.TenthsSums() {
+			sums[i] = uint32(math.Round(float64(s) * f))
 		}
 		start := time.Date(2026, 1, 1, 8, 0, 0, 0, time.UTC).AddDate(0, 0, k)
-		out[k] = RideCurve{Source: &Source{File: fmt.Sprintf("r%04d.fit", k), Date: start.Format("2006-01-02"), RideStart: start},
-			Watts: ws, OffsetsS: b.OffsetsS}
+		out[k] = RideCurveOfSums(&Source{File: fmt.Sprintf("r%04d.fit", k), Date: start.Format("2006-01-02"), RideStart: start},
+			sums, b.off16, b.off32)
 	}
 	return out
 }

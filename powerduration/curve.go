@@ -120,14 +120,7 @@ func (c Curve) At(d int) (Point, bool) {
 }
 
 // OfRide computes the ride's curve over the shared grid of durations.
-func OfRide(r *ingest.Ride) RideCurve {
-	best := MeanMax(r.PowerW, Durations(len(r.PowerW)))
-	rc := RideCurve{Source: SourceOf(r), Watts: make([]float64, len(best)), OffsetsS: make([]int32, len(best))}
-	for i, b := range best {
-		rc.Watts[i], rc.OffsetsS[i] = b.Watts, int32(b.OffsetS)
-	}
-	return rc
-}
+func OfRide(r *ingest.Ride) RideCurve { return rideCurve(SourceOf(r), r.PowerW) }
 
 // OfRideAvoiding is the ride's curve over the windows that share no second
 // with the spans to avoid, with the recorded values of the spans to bridge
@@ -162,7 +155,7 @@ func OfRideAvoiding(r *ingest.Ride, power []float64, avoid, bridge []ingest.Span
 	}
 	spans := avoid
 	ds := Durations(len(power))
-	rc := RideCurve{Source: SourceOf(r), Watts: make([]float64, len(ds)), OffsetsS: make([]int32, len(ds))}
+	watts, offsets := make([]float64, len(ds)), make([]int32, len(ds))
 	from := 0
 	for k := 0; k <= len(spans); k++ {
 		to := len(power)
@@ -171,15 +164,15 @@ func OfRideAvoiding(r *ingest.Ride, power []float64, avoid, bridge []ingest.Span
 		}
 		seg := power[from:to]
 		for i, b := range MeanMax(seg, ds[:len(Durations(len(seg)))]) {
-			if b.Watts > rc.Watts[i] {
-				rc.Watts[i], rc.OffsetsS[i] = b.Watts, int32(from+b.OffsetS)
+			if b.Watts > watts[i] {
+				watts[i], offsets[i] = b.Watts, int32(from+b.OffsetS)
 			}
 		}
 		if k < len(spans) {
 			from = max(from, min(spans[k].End(), len(power)))
 		}
 	}
-	return rc
+	return NewRideCurve(SourceOf(r), watts, offsets)
 }
 
 // OfRides computes the curve of every ride, on up to workers goroutines
@@ -227,7 +220,7 @@ type Compact struct {
 // Compacted returns a ride's curve in columns.
 func (rc RideCurve) Compacted() Compact {
 	return Compact{File: rc.File, Session: rc.Session, Date: rc.Date, RideStart: rc.RideStart,
-		DurationS: rc.DurationsS(), Watts: rc.Watts, OffsetS: rc.OffsetsS}
+		DurationS: rc.DurationsS(), Watts: rc.Watts(), OffsetS: rc.OffsetsS()}
 }
 
 // Expand turns a compact curve back into a ride's curve.
@@ -237,6 +230,5 @@ func (k Compact) Expand() (RideCurve, error) {
 		!slices.Equal(k.DurationS, ds[:len(k.DurationS)]) {
 		return RideCurve{}, fmt.Errorf("%s: the curve's columns do not follow the shared grid of durations", k.File)
 	}
-	return RideCurve{Source: &Source{File: k.File, Date: k.Date, Session: k.Session, RideStart: k.RideStart},
-		Watts: k.Watts, OffsetsS: k.OffsetS}, nil
+	return NewRideCurve(&Source{File: k.File, Date: k.Date, Session: k.Session, RideStart: k.RideStart}, k.Watts, k.OffsetS), nil
 }

@@ -61,13 +61,61 @@ func MeanMax(power []float64, ds []int) []Best {
 		return out
 	}
 	if tenths, ok := asTenths(power); ok {
-		return meanMax(tenths, ds, 10, 0)
+		return bests(meanMax(tenths, ds, 0), 10)
 	}
+	return bests(meanMax(power, ds, floatMargin(power)), 1)
+}
+
+// floatMargin is the margin for rounding in the bounds of power summed in
+// floating point.
+func floatMargin(power []float64) float64 {
 	total := 0.0
 	for _, p := range power {
 		total += p
 	}
-	return meanMax(power, ds, 1, 1e-12*(total+1))
+	return 1e-12 * (total + 1)
+}
+
+// window is the best window of one duration: its sum and start.
+type window[T number] struct {
+	d, start int
+	sum      T
+}
+
+// bests are the windows as mean powers; a sum s of d samples is
+// s / (scale·d) watts.
+func bests[T number](ws []window[T], scale float64) []Best {
+	out := make([]Best, len(ws))
+	for i, w := range ws {
+		out[i] = Best{DurationS: w.d, Watts: float64(w.sum) / (scale * float64(w.d)), OffsetS: w.start}
+	}
+	return out
+}
+
+// rideCurve is a ride's curve over the first durations of the shared grid
+// (the ride's length and longer are left out): as whole tenths sums where
+// the power allows (see RideCurve).
+func rideCurve(src *Source, power []float64) RideCurve {
+	ds := Durations(len(power))
+	offsets := make([]int32, len(ds))
+	if tenths, ok := asTenths(power); ok {
+		ws := meanMax(tenths, ds, 0)
+		sums := make([]uint32, len(ws))
+		fits := true
+		for i, w := range ws {
+			sums[i], offsets[i] = uint32(w.sum), int32(w.start)
+			fits = fits && w.sum <= math.MaxUint32
+		}
+		if fits {
+			return RideCurve{Source: src, sums: sums}.withOffsets(offsets, nil)
+		}
+	}
+	bs := MeanMax(power, ds)
+	watts := make([]float64, len(bs))
+	for i, b := range bs {
+		watts[i], offsets[i] = b.Watts, int32(b.OffsetS)
+	}
+	return RideCurve{Source: src, watts: watts}.withOffsets(offsets, nil)
 }
 
 // asTenths is power in whole tenths of a watt, if every value is one.
@@ -92,12 +140,12 @@ type number interface{ ~int64 | ~float64 }
 // smaller ones with bounds of their own: faster on every ride shape).
 const blockStarts = 256
 
-// meanMax is MeanMax over samples of type T; a best sum s of d samples
-// is s / (scale·d) watts. margin is added to every bound before it is
-// compared with the best so far (0 where sums are exact).
-func meanMax[T number](power []T, ds []int, scale float64, margin T) []Best {
+// meanMax is MeanMax over samples of type T: the best window of each
+// duration. margin is added to every bound before it is compared with the
+// best so far (0 where sums are exact).
+func meanMax[T number](power []T, ds []int, margin T) []window[T] {
 	n := len(power)
-	out := make([]Best, 0, len(ds))
+	out := make([]window[T], 0, len(ds))
 	sum := make([]T, n+1)
 	var top T
 	for i, p := range power {
@@ -144,7 +192,7 @@ func meanMax[T number](power []T, ds []int, scale float64, margin T) []Best {
 			upper[b], since[b] = sc.block(a), int32(d)
 		}
 		reach = append(reach[:d], sc.bestSum)
-		out = append(out, Best{DurationS: d, Watts: float64(sc.bestSum) / (scale * float64(d)), OffsetS: sc.bestStart})
+		out = append(out, window[T]{d: d, start: sc.bestStart, sum: sc.bestSum})
 		prevStart = sc.bestStart
 	}
 	return out

@@ -56,25 +56,42 @@ func Merge(a, b Curve) Curve {
 
 // BestOf is the pointwise best of the rides' curves: the same as merging
 // their Curves one by one, in one pass. It goes ride by ride comparing
-// watts alone, and spells out only the winning points; a tie in watts is
-// settled as Merge settles it.
+// watts alone (whole tenths sums, where curves keep them: the same
+// comparison at one duration), and spells out only the winning points; a
+// tie in watts is settled as Merge settles it.
 func BestOf(curves []RideCurve) Curve {
 	n := 0
 	for _, rc := range curves {
 		n = max(n, rc.Len())
 	}
-	watts := make([]float64, n)
 	winner := make([]int32, n) // the curve holding each duration's best
 	for i := range winner {
 		winner[i] = -1
 	}
+	tie := func(c, i int) bool { return better(curves[c].point(i), curves[winner[i]].point(i)) }
+	// curves kept as sums first, compared as whole numbers
+	best := make([]uint32, n)
 	for c, rc := range curves {
-		ws := rc.Watts[:min(len(rc.Watts), n)]
-		for i, w := range ws {
+		for i, s := range rc.sums {
 			switch {
-			case w > watts[i] || winner[i] < 0:
-				watts[i], winner[i] = w, int32(c)
-			case w == watts[i] && better(rc.point(i), curves[winner[i]].point(i)):
+			case s > best[i] || winner[i] < 0:
+				best[i], winner[i] = s, int32(c)
+			case s == best[i] && tie(c, i):
+				winner[i] = int32(c)
+			}
+		}
+	}
+	// then curves kept as watts, against the best so far
+	for c, rc := range curves {
+		for i, w := range rc.watts {
+			if winner[i] < 0 {
+				winner[i] = int32(c)
+				continue
+			}
+			switch b := curves[winner[i]].WattsAt(i); {
+			case w > b:
+				winner[i] = int32(c)
+			case w == b && tie(c, i):
 				winner[i] = int32(c)
 			}
 		}

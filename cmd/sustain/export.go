@@ -109,7 +109,7 @@ func exportAction(c *cli.Context) error {
 				q.DropoutSeconds, q.SpikesRemoved, len(q.StuckRuns), stuck, q.Truncated, q.Salvaged})
 			rc := curves[i]
 			for k, d := range rc.DurationsS() {
-				points.Rows = append(points.Rows, []any{athlete, rc.File, rc.Session, rc.Date, d, rc.Watts[k], int(rc.OffsetsS[k])})
+				points.Rows = append(points.Rows, []any{athlete, rc.File, rc.Session, rc.Date, d, rc.WattsAt(k), rc.OffsetAt(k)})
 			}
 		}
 		for _, w := range estimate.SeasonWindows(res.Rides, windowDays, stepDays) {

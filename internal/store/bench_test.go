@@ -38,16 +38,27 @@ func benchFolder(b *testing.B, n int) string {
 	}
 	a := synth.Athlete{CPW: 270, WPrimeJ: 20000, PmaxW: 1000}
 	day := time.Date(2026, 1, 1, 8, 0, 0, 0, time.UTC)
-	for i := range n {
-		tr := synth.FieldRide(a, day.Add(time.Duration(i)*20*time.Hour), 90, []int{60 * (1 + i%12)}, uint64(i))
-		var buf bytes.Buffer
-		if err := synth.WriteFIT(&buf, tr); err != nil {
-			b.Fatal(err)
-		}
-		if err := os.WriteFile(filepath.Join(dir, fmt.Sprintf("ride-%04d.fit", i)), buf.Bytes(), 0o644); err != nil {
-			b.Fatal(err)
-		}
+	var wg sync.WaitGroup
+	var next atomic.Int64
+	for range runtime.NumCPU() {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := int(next.Add(1)) - 1; i < n; i = int(next.Add(1)) - 1 {
+				tr := synth.FieldRide(a, day.Add(time.Duration(i)*20*time.Hour), 90, []int{60 * (1 + i%12)}, uint64(i))
+				var buf bytes.Buffer
+				if err := synth.WriteFIT(&buf, tr); err != nil {
+					b.Error(err)
+					return
+				}
+				if err := os.WriteFile(filepath.Join(dir, fmt.Sprintf("ride-%04d.fit", i)), buf.Bytes(), 0o644); err != nil {
+					b.Error(err)
+					return
+				}
+			}
+		}()
 	}
+	wg.Wait()
 	benchDirs[n] = dir
 	return dir
 }
@@ -195,22 +206,40 @@ func BenchmarkPeakMemory1000(b *testing.B) {
 	}
 }
 
-// BenchmarkPeakMemoryNoStore1000 is the same without the store: each
-// ride's power is let go once its curve is computed (powerduration.Scan).
-// Target (issue 15): the peak grows with the rides' curves, not their
-// power (≤ 300 MB for 5,000 rides: 60 MB for 1,000).
-func BenchmarkPeakMemoryNoStore1000(b *testing.B) {
-	dir := benchFolder(b, 1000)
+// BenchmarkPeakMemoryNoStore5000 is a cold scan of 5,000 rides without
+// the store: each ride's power is let go once its curve is computed
+// (powerduration.Scan). Target (issue 15): at most 300 MB.
+func BenchmarkPeakMemoryNoStore5000(b *testing.B) {
+	dir := benchFolder(b, 5000)
 	for b.Loop() {
 		b.StopTimer()
 		peak := peakHeap(b, func() {
 			res, curves := powerduration.Scan([]string{dir}, ingest.Options{})
-			if len(res.Rides) != 1000 {
+			if len(res.Rides) != 5000 {
 				b.Fatal(len(res.Rides))
 			}
 			runtime.KeepAlive(curves)
 		})
 		b.ReportMetric(peak, "peak-MB")
+	}
+}
+
+// BenchmarkStoreWarm5000 re-scans 5,000 unchanged files through the
+// store. Target (issue 15): at most 1 s.
+func BenchmarkStoreWarm5000(b *testing.B) {
+	dir := benchFolder(b, 5000)
+	s, err := Open(filepath.Join(b.TempDir(), "rides.db"))
+	if err != nil {
+		b.Fatal(err)
+	}
+	defer s.Close()
+	if _, _, _, err := s.Scan([]string{dir}, ingest.Options{}); err != nil {
+		b.Fatal(err)
+	}
+	for b.Loop() {
+		if _, _, st, err := s.Scan([]string{dir}, ingest.Options{}); err != nil || st.Decoded != 0 {
+			b.Fatal(err, st)
+		}
 	}
 }
 

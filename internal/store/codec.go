@@ -81,80 +81,97 @@ func decodePower(b []byte, n int) ([]float64, error) {
 }
 
 // encodeCurve packs a ride's curve (its durations are the shared grid for
-// the ride's length). In whole tenths: the changes of the best sum from
-// one duration to the next, as two bytes each while they fit (every
-// second up to an hour, unless power passed 6553 W), then as varints;
-// then the changes of the offsets, as varints. Two streams read without
-// waiting on each other, about three bytes a point.
+// the ride's length). A curve kept as whole tenths sums: the changes of
+// the sum from one duration to the next, as two bytes each while they fit
+// (every second up to an hour, unless power passed 6553 W), then as
+// varints; then the changes of the offsets, as varints. Two streams read
+// without waiting on each other, about three bytes a point.
 func encodeCurve(c powerduration.RideCurve) []byte {
-	ds := c.DurationsS()
-	sums := make([]int64, len(ds))
-	for i, d := range ds {
-		s := math.Round(c.Watts[i] * 10 * float64(d))
-		if s < 0 || s > 1<<52 || float64(int64(s))/(10*float64(d)) != c.Watts[i] {
-			sums = nil
-			break
-		}
-		sums[i] = int64(s)
-	}
-	raw := make([]byte, 0, 8+4*len(ds))
-	if sums == nil {
-		raw = append(raw, layoutFloat64)
-		for i := range ds {
-			raw = binary.LittleEndian.AppendUint64(raw, math.Float64bits(c.Watts[i]))
-		}
-	} else {
+	n := c.Len()
+	raw := make([]byte, 0, 8+4*n)
+	if sums := c.TenthsSums(); sums != nil {
 		raw = append(raw, layoutTenths)
+		prev := func(i int) int64 {
+			if i == 0 {
+				return 0
+			}
+			return int64(sums[i-1])
+		}
 		short := 0 // the points whose change fits two bytes
-		for short < len(sums) {
-			if delta := sums[short] - prevOf(sums, short); delta < 0 || delta > math.MaxUint16 {
+		for short < n {
+			if delta := int64(sums[short]) - prev(short); delta < 0 || delta > math.MaxUint16 {
 				break
 			}
 			short++
 		}
 		raw = binary.AppendUvarint(raw, uint64(short))
 		for i := range short {
-			raw = binary.LittleEndian.AppendUint16(raw, uint16(sums[i]-prevOf(sums, i)))
+			raw = binary.LittleEndian.AppendUint16(raw, uint16(int64(sums[i])-prev(i)))
 		}
-		for i := short; i < len(sums); i++ {
-			raw = binary.AppendVarint(raw, sums[i]-prevOf(sums, i))
+		for i := short; i < n; i++ {
+			raw = binary.AppendVarint(raw, int64(sums[i])-prev(i))
+		}
+	} else {
+		raw = append(raw, layoutFloat64)
+		for i := range n {
+			raw = binary.LittleEndian.AppendUint64(raw, math.Float64bits(c.WattsAt(i)))
 		}
 	}
 	prev := int64(0)
-	for _, off := range c.OffsetsS {
-		raw = binary.AppendVarint(raw, int64(off)-prev)
-		prev = int64(off)
+	for i := range n {
+		off := int64(c.OffsetAt(i))
+		raw = binary.AppendVarint(raw, off-prev)
+		prev = off
 	}
 	return raw
-}
-
-func prevOf(v []int64, i int) int64 {
-	if i == 0 {
-		return 0
-	}
-	return v[i-1]
 }
 
 // curveSlab hands out the columns of many curves from a few large
 // allocations (one goroutine's: not safe for concurrent use); nil
 // allocates each curve on its own.
 type curveSlab struct {
-	watts   []float64
-	offsets []int32
+	sums    []uint32
+	off16   []uint16
+	scratch []int32 // offsets as decoded, before they are packed
 }
 
 const slabPoints = 1 << 16
 
-func (sl *curveSlab) take(n int) ([]float64, []int32) {
-	if sl == nil || n > slabPoints {
-		return make([]float64, n), make([]int32, n)
+// take returns n entries of *free, refilling it with a new slab when short.
+func take[T any](free *[]T, n int) []T {
+	if n > slabPoints {
+		return make([]T, n)
 	}
-	if len(sl.watts) < n {
-		sl.watts, sl.offsets = make([]float64, slabPoints), make([]int32, slabPoints)
+	if len(*free) < n {
+		*free = make([]T, slabPoints)
 	}
-	w, o := sl.watts[:n:n], sl.offsets[:n:n]
-	sl.watts, sl.offsets = sl.watts[n:], sl.offsets[n:]
-	return w, o
+	out := (*free)[:n:n]
+	*free = (*free)[n:]
+	return out
+}
+
+func (sl *curveSlab) takeSums(n int) []uint32 {
+	if sl == nil {
+		return make([]uint32, n)
+	}
+	return take(&sl.sums, n)
+}
+
+func (sl *curveSlab) takeOffsets(n int) []uint16 {
+	if sl == nil {
+		return make([]uint16, n)
+	}
+	return take(&sl.off16, n)
+}
+
+func (sl *curveSlab) offsetScratch(n int) []int32 {
+	if sl == nil {
+		return make([]int32, n)
+	}
+	if cap(sl.scratch) < n {
+		sl.scratch = make([]int32, n)
+	}
+	return sl.scratch[:n]
 }
 
 // decodeCurve unpacks the curve of ride r (its length and source set),
@@ -163,44 +180,59 @@ func (sl *curveSlab) take(n int) ([]float64, []int32) {
 func decodeCurve(raw []byte, r *ingest.Ride, ceilW float64, sl *curveSlab) (powerduration.RideCurve, error) {
 	seconds := r.Quality.Seconds
 	ds := powerduration.Durations(seconds)
-	c := powerduration.RideCurve{Source: powerduration.SourceOf(r)}
-	c.Watts, c.OffsetsS = sl.take(len(ds))
+	src := powerduration.SourceOf(r)
 	if len(raw) == 0 {
-		return c, errLayout
+		return powerduration.RideCurve{}, errLayout
 	}
 	b, p := raw[1:], 0
+	var sums []uint32
+	var watts []float64
 	switch raw[0] {
 	case layoutTenths:
 		u, n := binary.Uvarint(b)
 		if n <= 0 || u > uint64(len(ds)) || len(b)-n < 2*int(u) {
-			return c, errLayout
+			return powerduration.RideCurve{}, errLayout
 		}
 		short, fixed := int(u), b[n:n+2*int(u)]
+		sums = sl.takeSums(len(ds))
 		var sum int64
-		for i, d := range ds[:short] {
+		for i := range short {
 			sum += int64(binary.LittleEndian.Uint16(fixed[2*i:]))
-			c.Watts[i] = float64(sum) / (10 * float64(d))
+			sums[i] = uint32(sum)
 		}
 		p = n + 2*short
 		for i := short; i < len(ds); i++ {
 			delta, q, ok := varint(b, p)
-			if !ok {
-				return c, errLayout
+			if !ok || sum+delta < 0 || sum+delta > math.MaxUint32 {
+				return powerduration.RideCurve{}, errLayout
 			}
 			sum, p = sum+delta, q
-			c.Watts[i] = float64(sum) / (10 * float64(ds[i]))
+			sums[i] = uint32(sum)
+		}
+		// the highest mean of a duration is its sum over the duration:
+		// checked against the ceiling as whole numbers
+		for i, d := range ds {
+			if float64(sums[i]) > ceilW*10*float64(d) {
+				return powerduration.RideCurve{}, errLayout
+			}
 		}
 	case layoutFloat64:
 		if len(b) < 8*len(ds) {
-			return c, errLayout
+			return powerduration.RideCurve{}, errLayout
 		}
+		watts = make([]float64, len(ds))
 		for i := range ds {
-			c.Watts[i] = math.Float64frombits(binary.LittleEndian.Uint64(b[8*i:]))
+			w := math.Float64frombits(binary.LittleEndian.Uint64(b[8*i:]))
+			if !(w >= 0 && w <= ceilW) { // NaN fails too
+				return powerduration.RideCurve{}, errLayout
+			}
+			watts[i] = w
 		}
 		p = 8 * len(ds)
 	default:
-		return c, errLayout
+		return powerduration.RideCurve{}, errLayout
 	}
+	offsets := sl.offsetScratch(len(ds))
 	var off int64
 	for i, d := range ds {
 		if u, n := shortUvarint(b, p); n > 0 { // the usual case, inline
@@ -208,17 +240,28 @@ func decodeCurve(raw []byte, r *ingest.Ride, ceilW float64, sl *curveSlab) (powe
 		} else if delta, q, ok := varint(b, p); ok {
 			off, p = off+delta, q
 		} else {
-			return c, errLayout
+			return powerduration.RideCurve{}, errLayout
 		}
-		if w := c.Watts[i]; off < 0 || off+int64(d) > int64(seconds) || !(w >= 0 && w <= ceilW) { // NaN fails too
-			return c, errLayout
+		if off < 0 || off+int64(d) > int64(seconds) {
+			return powerduration.RideCurve{}, errLayout
 		}
-		c.OffsetsS[i] = int32(off)
+		offsets[i] = int32(off)
 	}
 	if p != len(b) {
-		return c, errLayout
+		return powerduration.RideCurve{}, errLayout
 	}
-	return c, nil
+	if sums == nil {
+		return powerduration.NewRideCurve(src, watts, append([]int32(nil), offsets...)), nil
+	}
+	// offsets in two bytes (a ride shorter than 65,536 s), else four
+	if seconds <= math.MaxUint16 {
+		off16 := sl.takeOffsets(len(ds))
+		for i, o := range offsets {
+			off16[i] = uint16(o)
+		}
+		return powerduration.RideCurveOfSums(src, sums, off16, nil), nil
+	}
+	return powerduration.RideCurveOfSums(src, sums, nil, append([]int32(nil), offsets...)), nil
 }
 
 // varint reads the signed variable-length integer at b[p:] and the

@@ -37,7 +37,7 @@ func TestCodecsRoundTrip(t *testing.T) {
 		c := powerduration.OfRide(&r)
 		cb := encodeCurve(c)
 		got, err := decodeCurve(cb, &r, 10000, nil)
-		if err != nil || !reflect.DeepEqual(got.Watts, c.Watts) || !reflect.DeepEqual(got.OffsetsS, c.OffsetsS) {
+		if err != nil || !reflect.DeepEqual(got.Watts(), c.Watts()) || !reflect.DeepEqual(got.OffsetsS(), c.OffsetsS()) {
 			t.Fatalf("%s: curve does not round-trip (%v)", name, err)
 		}
 		if name == "tenths" && len(cb) > 4*c.Len() {

@@ -333,7 +333,7 @@ func TestCorruptedStoreNeverLies(t *testing.T) {
 // A stored row of any bytes never panics its check, and a row that passes
 // holds a curve within the physical bounds.
 func FuzzStoredRow(f *testing.F) {
-	good := encodeCurve(powerduration.RideCurve{Watts: []float64{300, 250, 200, 150}, OffsetsS: []int32{0, 0, 0, 0}})
+	good := encodeCurve(powerduration.NewRideCurve(nil, []float64{300, 250, 200, 150}, []int32{0, 0, 0, 0}))
 	f.Add("2026-03-02T08:00:00Z", "cycling", 4, []byte{0, 0, 0, 0}, "", good, int64(0))
 	f.Add("x", "", -1, []byte{9, 200}, "note", []byte{1, 2, 3}, int64(7))
 	f.Fuzz(func(t *testing.T, start, sport string, seconds int, lists []byte, notes string, curve []byte, sum int64) {
@@ -348,8 +348,8 @@ func FuzzStoredRow(f *testing.F) {
 				continue
 			}
 			for i, d := range c.DurationsS() {
-				if w := c.Watts[i]; !(w >= 0 && w <= ingest.DefaultSpikeCeilingW) || int(c.OffsetsS[i])+d > seconds {
-					t.Fatalf("a checked row holds %v W at offset %d", w, c.OffsetsS[i])
+				if w := c.WattsAt(i); !(w >= 0 && w <= ingest.DefaultSpikeCeilingW) || c.OffsetAt(i)+d > seconds {
+					t.Fatalf("a checked row holds %v W at offset %d", w, c.OffsetAt(i))
 				}
 			}
 		}
