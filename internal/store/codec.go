@@ -130,9 +130,8 @@ func encodeCurve(c powerduration.RideCurve) []byte {
 // allocations (one goroutine's: not safe for concurrent use); nil
 // allocates each curve on its own.
 type curveSlab struct {
-	sums    []uint32
-	off16   []uint16
-	scratch []int32 // offsets as decoded, before they are packed
+	sums  []uint32
+	off16 []uint16
 }
 
 const slabPoints = 1 << 16
@@ -164,16 +163,6 @@ func (sl *curveSlab) takeOffsets(n int) []uint16 {
 	return take(&sl.off16, n)
 }
 
-func (sl *curveSlab) offsetScratch(n int) []int32 {
-	if sl == nil {
-		return make([]int32, n)
-	}
-	if cap(sl.scratch) < n {
-		sl.scratch = make([]int32, n)
-	}
-	return sl.scratch[:n]
-}
-
 // decodeCurve unpacks the curve of ride r (its length and source set),
 // checking every point against the physical bounds: watts from 0 to
 // ceilW, windows inside the ride.
@@ -195,26 +184,24 @@ func decodeCurve(raw []byte, r *ingest.Ride, ceilW float64, sl *curveSlab) (powe
 		}
 		short, fixed := int(u), b[n:n+2*int(u)]
 		sums = sl.takeSums(len(ds))
+		// a duration's best sum is at most the ceiling for every second
+		ceilT := int64(math.Min(ceilW*10, math.MaxUint32))
 		var sum int64
-		for i := range short {
+		for i, d := range ds[:short] {
 			sum += int64(binary.LittleEndian.Uint16(fixed[2*i:]))
+			if sum > ceilT*int64(d) {
+				return powerduration.RideCurve{}, errLayout
+			}
 			sums[i] = uint32(sum)
 		}
 		p = n + 2*short
 		for i := short; i < len(ds); i++ {
 			delta, q, ok := varint(b, p)
-			if !ok || sum+delta < 0 || sum+delta > math.MaxUint32 {
+			if !ok || sum+delta < 0 || sum+delta > math.MaxUint32 || sum+delta > ceilT*int64(ds[i]) {
 				return powerduration.RideCurve{}, errLayout
 			}
 			sum, p = sum+delta, q
 			sums[i] = uint32(sum)
-		}
-		// the highest mean of a duration is its sum over the duration:
-		// checked against the ceiling as whole numbers
-		for i, d := range ds {
-			if float64(sums[i]) > ceilW*10*float64(d) {
-				return powerduration.RideCurve{}, errLayout
-			}
 		}
 	case layoutFloat64:
 		if len(b) < 8*len(ds) {
@@ -232,7 +219,15 @@ func decodeCurve(raw []byte, r *ingest.Ride, ceilW float64, sl *curveSlab) (powe
 	default:
 		return powerduration.RideCurve{}, errLayout
 	}
-	offsets := sl.offsetScratch(len(ds))
+	// offsets in two bytes in a ride shorter than 65,536 s (a curve kept
+	// as sums), else four
+	var off16 []uint16
+	var off32 []int32
+	if sums != nil && seconds <= math.MaxUint16 {
+		off16 = sl.takeOffsets(len(ds))
+	} else {
+		off32 = make([]int32, len(ds))
+	}
 	var off int64
 	for i, d := range ds {
 		if u, n := shortUvarint(b, p); n > 0 { // the usual case, inline
@@ -245,23 +240,19 @@ func decodeCurve(raw []byte, r *ingest.Ride, ceilW float64, sl *curveSlab) (powe
 		if off < 0 || off+int64(d) > int64(seconds) {
 			return powerduration.RideCurve{}, errLayout
 		}
-		offsets[i] = int32(off)
+		if off16 != nil {
+			off16[i] = uint16(off)
+		} else {
+			off32[i] = int32(off)
+		}
 	}
 	if p != len(b) {
 		return powerduration.RideCurve{}, errLayout
 	}
 	if sums == nil {
-		return powerduration.NewRideCurve(src, watts, append([]int32(nil), offsets...)), nil
+		return powerduration.NewRideCurve(src, watts, off32), nil
 	}
-	// offsets in two bytes (a ride shorter than 65,536 s), else four
-	if seconds <= math.MaxUint16 {
-		off16 := sl.takeOffsets(len(ds))
-		for i, o := range offsets {
-			off16[i] = uint16(o)
-		}
-		return powerduration.RideCurveOfSums(src, sums, off16, nil), nil
-	}
-	return powerduration.RideCurveOfSums(src, sums, nil, append([]int32(nil), offsets...)), nil
+	return powerduration.RideCurveOfSums(src, sums, off16, off32), nil
 }
 
 // varint reads the signed variable-length integer at b[p:] and the
