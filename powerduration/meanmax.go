@@ -169,8 +169,13 @@ func meanMax[T number](power []T, ds []int, margin T) []window[T] {
 		for k := len(reach); k < d; k++ {
 			reach = append(reach, reach[k-1]+top)
 		}
-		s0 := min(prevStart, n-d) // seed: the previous best window, grown to d
+		// seed: the previous best window grown to d, at its end or (when
+		// that is better) at its start
+		s0 := min(prevStart, n-d)
 		sc.d, sc.lastStart, sc.bestSum, sc.bestStart = d, n-d, sum[s0+d]-sum[s0], s0
+		if s1 := s0 - 1; s1 >= 0 && sum[s1+d]-sum[s1] >= sc.bestSum {
+			sc.bestSum, sc.bestStart = sum[s1+d]-sum[s1], s1
+		}
 		blocks := sc.lastStart/blockStarts + 1
 		for b, u := range upper[:blocks] {
 			a := b * blockStarts
@@ -235,20 +240,39 @@ func (sc *scanner[T]) block(a int) T {
 	}
 	ends := sc.sum[a+sc.d : hi+1]
 	starts := sc.sum[a : a+len(ends)]
-	most := windowsMax(ends, starts)
-	if most < sc.bestSum || most == sc.bestSum && a >= sc.bestStart {
-		return most
+	// the starts before the best so far and from it on, apart: a window
+	// before it wins a tie, one after it must beat it
+	cut := min(max(sc.bestStart-a, 0), len(ends))
+	var before, after T
+	if cut > 0 {
+		before = windowsMax(ends[:cut], starts[:cut])
 	}
-	if most == sc.bestSum { // only a window before the best so far can win
-		ends = ends[:sc.bestStart-a]
+	if cut < len(ends) {
+		after = windowsMax(ends[cut:], starts[cut:])
 	}
-	for s, v := range ends { // the earliest window with it
-		if v-starts[s] == most {
-			sc.bestSum, sc.bestStart = most, a+s
-			break
+	switch {
+	case cut > 0 && before >= sc.bestSum && (cut == len(ends) || before >= after):
+		sc.bestSum, sc.bestStart = before, a+firstWith(ends[:cut], starts, before)
+	case cut < len(ends) && after > sc.bestSum:
+		sc.bestSum, sc.bestStart = after, a+cut+firstWith(ends[cut:], starts[cut:], after)
+	}
+	if cut == 0 {
+		return after
+	}
+	if cut == len(ends) {
+		return before
+	}
+	return max(before, after)
+}
+
+// firstWith is the first s with hi[s] − lo[s] = v (there is one).
+func firstWith[T number](hi, lo []T, v T) int {
+	for s, h := range hi {
+		if h-lo[s] == v {
+			return s
 		}
 	}
-	return most
+	return len(hi) - 1
 }
 
 // windowsMax is the highest of hi[s] − lo[s] (hi and lo of one length,
