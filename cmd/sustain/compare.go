@@ -98,6 +98,7 @@ func compareAction(c *cli.Context) error {
 		err = writeCompareCSV(w, subjects, methods)
 	default:
 		renderCompare(w, kind, subjects, pairs, methods, skipped)
+		reportSkipped(c.App.ErrWriter, skipped)
 	}
 	if err != nil {
 		return err
@@ -107,7 +108,7 @@ func compareAction(c *cli.Context) error {
 			return fmt.Errorf("plot %s: %w", p, err)
 		}
 		if !c.Bool("json") && !c.Bool("csv") {
-			fmt.Fprintf(w, "\nplot written to %s\n", p)
+			fmt.Fprintf(c.App.ErrWriter, "plot written to %s\n", p)
 		}
 	}
 	if len(subjects) == 0 {
@@ -227,9 +228,5 @@ func renderCompare(w io.Writer, kind string, subjects []estimate.Subject, pairs 
 			parts = append(parts, strings.Join(missing, ", ")+" not estimated")
 		}
 		fmt.Fprintf(w, "  %s: %s\n", s.Name, strings.Join(parts, "; "))
-	}
-	if len(skipped) > 0 {
-		fmt.Fprintln(w)
-		reportSkipped(w, skipped)
 	}
 }

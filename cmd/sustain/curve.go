@@ -153,6 +153,7 @@ func curveAction(c *cli.Context) error {
 		err = writeCurveCSV(w, out)
 	default:
 		renderCurve(w, out, c.Args().Slice())
+		reportSkipped(c.App.ErrWriter, out.Skipped)
 	}
 	if err != nil {
 		return err
@@ -162,7 +163,7 @@ func curveAction(c *cli.Context) error {
 			return fmt.Errorf("plot %s: %w", p, err)
 		}
 		if !c.Bool("json") && !c.Bool("csv") {
-			fmt.Fprintf(w, "plot written to %s\n", p)
+			fmt.Fprintf(c.App.ErrWriter, "plot written to %s\n", p)
 		}
 	}
 	if len(curves) > 0 && out.Rides == 0 {
@@ -281,7 +282,6 @@ func durationLabel(s int) string {
 func renderCurve(w io.Writer, out curveOut, paths []string) {
 	fmt.Fprintf(w, "Best mean power, %d rides from %s to %s\n\n", out.Rides, orOpen(out.Window.From), orOpen(out.Window.To))
 	if len(out.Points) == 0 {
-		reportSkipped(w, out.Skipped)
 		return
 	}
 	byDur := curveIndex(out.Points)
@@ -322,10 +322,6 @@ func renderCurve(w io.Writer, out curveOut, paths []string) {
 	tw.Flush()
 	if out.Compare != nil {
 		fmt.Fprintf(w, "\ncompared: %d rides from %s to %s\n", out.Compare.Rides, orOpen(out.Compare.Window.From), orOpen(out.Compare.Window.To))
-	}
-	if len(out.Skipped) > 0 {
-		fmt.Fprintln(w)
-		reportSkipped(w, out.Skipped)
 	}
 }
 

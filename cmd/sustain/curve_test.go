@@ -75,14 +75,17 @@ func TestCurveJSONContract(t *testing.T) {
 func TestCurveTableCSVPlot(t *testing.T) {
 	dir := twoBlockFolder(t)
 	plot := filepath.Join(t.TempDir(), "curve.png")
-	code, out, _ := runCmd(t, "curve", dir, "--last", "30d", "--compare-from", "2026-03-01", "--compare-to", "2026-03-31", "--mass", "70", "--plot", plot)
+	code, out, errs := runCmd(t, "curve", dir, "--last", "30d", "--compare-from", "2026-03-01", "--compare-to", "2026-03-31", "--mass", "70", "--plot", plot)
 	if code != exitOK {
 		t.Fatalf("exit %d\n%s", code, out)
 	}
-	for _, want := range []string{"Best mean power, 4 rides from 2026-04-12 to 2026-05-11", "5 min", "W/kg", "compared", "plot written"} {
+	for _, want := range []string{"Best mean power, 4 rides from 2026-04-12 to 2026-05-11", "5 min", "W/kg", "compared"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("table lacks %q:\n%s", want, out)
 		}
+	}
+	if !strings.Contains(errs, "plot written") || strings.Contains(out, "plot written") {
+		t.Errorf("the plot's message is not on stderr alone:\n%s", errs)
 	}
 	f, err := os.Open(plot)
 	if err != nil {

@@ -93,7 +93,7 @@ func demoAction(c *cli.Context) error {
 			args = append(args, "--force") // the plots of an earlier demo in the same folder
 		}
 		fmt.Fprintf(w, "\n$ sustain %s\n", strings.Join(args, " "))
-		app := newApp(w, c.App.ErrWriter)
+		app := newApp(w, w) // the commands' messages in line with their results, as a terminal shows them
 		if err := app.Run(interspersed(app, append([]string{"sustain"}, args...))); err != nil {
 			return fmt.Errorf("demo step %q: %w", args[0], err)
 		}

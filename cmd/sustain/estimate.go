@@ -118,13 +118,14 @@ func estimateAction(c *cli.Context) error {
 		}
 	} else {
 		renderEstimate(w, out, c.Float64("mass"))
+		reportSkipped(c.App.ErrWriter, out.Skipped)
 	}
 	if p := c.String("plot"); p != "" && len(rep.Curve.Points) > 0 {
 		if err := plotEstimate(p, rep, plotTitle("Power-duration fit", c.Args().Slice(), win, rep.Rides)); err != nil {
 			return fmt.Errorf("plot %s: %w", p, err)
 		}
 		if !c.Bool("json") {
-			fmt.Fprintf(w, "\nplot written to %s\n", p)
+			fmt.Fprintf(c.App.ErrWriter, "plot written to %s\n", p)
 		}
 	}
 	if len(res.Rides) > 0 && rep.Rides == 0 {
@@ -346,10 +347,6 @@ func renderEstimate(w io.Writer, out estimateOut, massKG float64) {
 		for _, a := range out.Audit {
 			fmt.Fprintf(w, "  %s %s: balance fell to %.1f kJ at %s: CP or W′ is probably too low\n", a.Date, shown(a.File), a.MinBalanceJ/1000, clock(a.AtS))
 		}
-	}
-	if len(out.Skipped) > 0 {
-		fmt.Fprintln(w)
-		reportSkipped(w, out.Skipped)
 	}
 }
 

@@ -40,6 +40,7 @@ func inspectCommand() *cli.Command {
 				}
 			} else {
 				renderInspect(c.App.Writer, res)
+				listSkipped(c.App.ErrWriter, res.Skipped) // inspect lists every file
 				for _, d := range res.Duplicates {
 					fmt.Fprintf(c.App.Writer, "duplicate %s: left out, the same ride as %s (%s)\n", shown(d.File), shown(d.Kept), d.Why)
 				}
@@ -47,7 +48,7 @@ func inspectCommand() *cli.Command {
 					fmt.Fprintf(c.App.Writer, "archive %s: %d rides, %d skipped, %d duplicates\n", shown(a.Archive), a.Rides, a.Skipped, a.Duplicates)
 				}
 				if out.Store != nil {
-					fmt.Fprintf(c.App.Writer, "store %s: %d files answered from it, %d decoded\n", out.Store.Path, out.Store.Cached, out.Store.Decoded)
+					fmt.Fprintf(c.App.ErrWriter, "store %s: %d files answered from it, %d decoded\n", out.Store.Path, out.Store.Cached, out.Store.Decoded)
 				}
 			}
 			return nothingRead(res)
@@ -262,14 +263,10 @@ func renderInspect(w io.Writer, res ingest.Result) {
 	if len(res.Rides) > 0 {
 		fmt.Fprintln(w, "gaps: missing runs set to 0 W; dropouts: runs of 5 s or less filled by interpolation; stuck: identical power for 60 s or more (left as is)")
 	}
-	if len(res.Skipped) > 0 {
-		fmt.Fprintln(w)
-	}
-	reportSkipped(w, res.Skipped)
 	if res.Read > len(res.Rides) {
-		fmt.Fprintf(w, "%d rides read (%d with problems listed), %d files skipped\n", res.Read, len(res.Rides), len(res.Skipped))
+		fmt.Fprintf(w, "%s read (%d with problems listed), %s skipped\n", count(res.Read, "ride"), len(res.Rides), count(len(res.Skipped), "file"))
 	} else {
-		fmt.Fprintf(w, "%d rides read, %d files skipped\n", len(res.Rides), len(res.Skipped))
+		fmt.Fprintf(w, "%s read, %s skipped\n", count(len(res.Rides), "ride"), count(len(res.Skipped), "file"))
 	}
 }
 

@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"sort"
+	"strings"
 
 	"github.com/schollz/progressbar/v3"
 	"github.com/sustain-cycling/sustain/ingest"
@@ -43,6 +45,9 @@ func ingestOptions(c *cli.Context) (ingest.Options, error) {
 	}
 	if opts.SpikeCeilingW <= 0 {
 		return opts, usageError{"--spike-ceiling must be above 0 W"}
+	}
+	if opts.Workers < 0 {
+		return opts, usageError{fmt.Sprintf("--workers takes a number of files decoded at once (0: one per CPU), not %d", opts.Workers)}
 	}
 	return opts, nil
 }
@@ -228,11 +233,48 @@ func scanAll(c *cli.Context, paths []string, only func(string) bool) (ingest.Res
 	return res, curves, nil
 }
 
-// reportSkipped writes one line per skipped file to w.
+// reportSkipped writes one line per skipped file to w (stderr: messages,
+// not the result), or past ten files a count for each kind of reason, the
+// most common first, and where to see each file.
 func reportSkipped(w io.Writer, skipped []ingest.Skipped) {
+	if len(skipped) <= maxSkipLines {
+		listSkipped(w, skipped)
+		return
+	}
+	byKind := map[string]int{}
+	var kinds []string
+	for _, s := range skipped {
+		k := reasonKind(s.Reason)
+		if byKind[k] == 0 {
+			kinds = append(kinds, k)
+		}
+		byKind[k]++
+	}
+	sort.SliceStable(kinds, func(a, b int) bool { return byKind[kinds[a]] > byKind[kinds[b]] })
+	parts := make([]string, len(kinds))
+	for i, k := range kinds {
+		parts[i] = fmt.Sprintf("%d %s", byKind[k], k)
+	}
+	fmt.Fprintf(w, "%s skipped: %s; `sustain inspect` lists each with its reason\n", count(len(skipped), "file"), strings.Join(parts, ", "))
+}
+
+// listSkipped writes one line per skipped file to w.
+func listSkipped(w io.Writer, skipped []ingest.Skipped) {
 	for _, s := range skipped {
 		fmt.Fprintf(w, "skipped %s: %s\n", shown(s.File), s.Reason)
 	}
+}
+
+// maxSkipLines: more skipped files than this are counted by reason.
+const maxSkipLines = 10
+
+// reasonKind is a reason without its particulars (a line number, a sport,
+// a size): the words before the first colon or parenthesis.
+func reasonKind(reason string) string {
+	if i := strings.IndexAny(reason, ":("); i > 0 {
+		reason = reason[:i]
+	}
+	return strings.TrimSpace(reason)
 }
 
 // nothingRead is the exit for a run that analysed no ride.
@@ -240,5 +282,13 @@ func nothingRead(res ingest.Result) error {
 	if len(res.Rides) > 0 {
 		return nil
 	}
-	return cli.Exit(fmt.Sprintf("no ride could be read (%d files skipped)", len(res.Skipped)), exitNothing)
+	return cli.Exit(fmt.Sprintf("no ride could be read (%s skipped)", count(len(res.Skipped), "file")), exitNothing)
+}
+
+// count is n things in words: "1 ride", "3 rides".
+func count(n int, thing string) string {
+	if n == 1 {
+		return "1 " + thing
+	}
+	return fmt.Sprintf("%d %ss", n, thing)
 }

@@ -12,6 +12,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"runtime/debug"
 	"strings"
 
 	"github.com/urfave/cli/v2"
@@ -57,15 +58,15 @@ func run(args []string, stdout, stderr io.Writer) int {
 }
 
 func newApp(stdout, stderr io.Writer) *cli.App {
-	return &cli.App{
+	app := &cli.App{
 		Name:      "sustain",
 		Usage:     "threshold power (critical power, W′, Pmax) from the ride files you already record",
+		Version:   version(),
 		Writer:    stdout,
 		ErrWriter: stderr,
-		// flag errors come back as errors and become exit status 2
-		OnUsageError: func(c *cli.Context, err error, isSub bool) error {
-			return usageError{err.Error()}
-		},
+		// flag errors come back as errors and become exit status 2, with
+		// no help text on stdout (which carries results only)
+		OnUsageError: onUsageError,
 		ExitErrHandler: func(*cli.Context, error) {},
 		// a repeatable flag takes one value each time: a value such as
 		// FILE@0:10:00+30m=2.0,2.4 keeps its comma
@@ -90,9 +91,55 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 			if c.NArg() > 0 {
 				return usageError{fmt.Sprintf("no command %q; see sustain --help", c.Args().First())}
 			}
-			return cli.ShowAppHelp(c)
+			// no command: the help goes to stderr, and it is a usage error
+			c.App.Writer = c.App.ErrWriter
+			cli.ShowAppHelp(c)
+			return usageError{"name a command (sustain --help lists them)"}
 		},
 	}
+	var each func(cmds []*cli.Command)
+	each = func(cmds []*cli.Command) {
+		for _, cmd := range cmds {
+			cmd.OnUsageError = onUsageError
+			each(cmd.Subcommands)
+		}
+	}
+	each(app.Commands)
+	return app
+}
+
+// onUsageError turns a flag error into a usage error (exit status 2), with
+// a pointer to the help instead of the help itself.
+func onUsageError(c *cli.Context, err error, isSub bool) error {
+	return usageError{err.Error() + " (see --help)"}
+}
+
+// version is the tool's version, with the commit it was built from when
+// the build recorded one (analysts cite it in a methods section).
+func version() string {
+	v := "0.3.0-dev"
+	info, ok := debug.ReadBuildInfo()
+	if !ok {
+		return v
+	}
+	if mv := info.Main.Version; mv != "" && mv != "(devel)" {
+		v = mv
+	}
+	var commit, dirty string
+	for _, s := range info.Settings {
+		switch s.Key {
+		case "vcs.revision":
+			commit = s.Value[:min(12, len(s.Value))]
+		case "vcs.modified":
+			if s.Value == "true" {
+				dirty = ", modified"
+			}
+		}
+	}
+	if commit != "" {
+		v += " (commit " + commit + dirty + ")"
+	}
+	return v + ", " + info.GoVersion
 }
 
 func isFlagError(err error) bool {

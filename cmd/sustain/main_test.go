@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"compress/gzip"
 	"encoding/json"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -56,18 +57,23 @@ func runCmd(t *testing.T, args ...string) (int, string, string) {
 
 func TestInspectMixedFolder(t *testing.T) {
 	dir := mixedFolder(t)
-	code, out, _ := runCmd(t, "inspect", dir)
+	code, out, errs := runCmd(t, "inspect", dir)
 	if code != exitOK {
 		t.Fatalf("exit %d\n%s", code, out)
 	}
-	for _, want := range []string{"good.fit", "good.tcx.gz", "good.csv", "cut.fit", "cut short",
+	for _, want := range []string{"good.fit", "good.tcx.gz", "good.csv", "cut.fit", "cut short", "4 rides read, 4 files skipped"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("output lacks %q:\n%s", want, out)
+		}
+	}
+	// the skipped files are messages: on stderr, each with its reason
+	for _, want := range []string{
 		"skipped " + filepath.Join(dir, "empty.fit") + ": empty file",
 		"skipped " + filepath.Join(dir, "random.fit") + ": not a FIT file",
 		"skipped " + filepath.Join(dir, "broken.tcx") + ": malformed XML",
-		"skipped " + filepath.Join(dir, "hr-only.csv") + ": CSV has no power column",
-		"4 rides read, 4 files skipped"} {
-		if !strings.Contains(out, want) {
-			t.Errorf("output lacks %q:\n%s", want, out)
+		"skipped " + filepath.Join(dir, "hr-only.csv") + ": CSV has no power column"} {
+		if !strings.Contains(errs, want) || strings.Contains(out, want) {
+			t.Errorf("stderr lacks %q (or stdout has it):\n%s", want, errs)
 		}
 	}
 	if strings.Contains(out, "readme.txt") {
@@ -119,11 +125,54 @@ func TestExitStatus(t *testing.T) {
 		{[]string{"inspect", "--no-such-flag", dir}, exitUsage},
 		{[]string{"inspect", "--sport", "rowing", dir}, exitUsage},
 		{[]string{"no-such-command"}, exitUsage},
+		{[]string{}, exitUsage},
+		{[]string{"inspect", "--workers", "-2", dir}, exitUsage},
+		{[]string{"estimate", "--mass", "heavy", dir}, exitUsage},
+		{[]string{"protocol", "trials", "--no-such-flag"}, exitUsage},
 	}
 	for _, c := range cases {
-		if code, _, _ := runCmd(t, c.args...); code != c.want {
+		code, out, errs := runCmd(t, c.args...)
+		if code != c.want {
 			t.Errorf("%v: exit %d, want %d", c.args, code, c.want)
 		}
+		// a usage error has no result: nothing on stdout, the reason on stderr
+		if errs == "" || (c.want == exitUsage && out != "") {
+			t.Errorf("%v: stdout %q, stderr %q", c.args, out, errs)
+		}
+	}
+}
+
+// --version names the version and the Go it was built with, on stdout.
+func TestVersion(t *testing.T) {
+	code, out, _ := runCmd(t, "--version")
+	if code != exitOK || !strings.HasPrefix(out, "sustain version ") || !strings.Contains(out, "go1.") {
+		t.Errorf("exit %d: %q", code, out)
+	}
+}
+
+// Messages go to stderr, results to stdout: a path that does not exist
+// beside a good folder is a skipped line on stderr, and past ten skipped
+// files they are counted by reason instead of listed (inspect lists each).
+func TestMessagesOnStderr(t *testing.T) {
+	dir := mixedFolder(t)
+	for i := range 11 {
+		os.WriteFile(filepath.Join(dir, fmt.Sprintf("blank-%02d.fit", i)), nil, 0o644)
+	}
+	missing := filepath.Join(t.TempDir(), "no-such-folder")
+	code, out, errs := runCmd(t, "curve", dir, missing, "--no-store")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	if strings.Contains(out, "skipped") || strings.Contains(out, missing) {
+		t.Errorf("stdout holds messages:\n%s", out)
+	}
+	if !strings.Contains(errs, "16 files skipped: 12 empty file, ") || !strings.Contains(errs, "1 no such file or folder") ||
+		!strings.Contains(errs, "`sustain inspect` lists each") {
+		t.Errorf("stderr does not count the skipped files by reason:\n%s", errs)
+	}
+	_, _, errs = runCmd(t, "inspect", dir, missing, "--no-store")
+	if n := strings.Count(errs, "\nskipped ") + strings.Count(errs[:min(len(errs), 8)], "skipped "); n != 16 {
+		t.Errorf("inspect listed %d skipped files, want 16:\n%s", n, errs)
 	}
 }
 

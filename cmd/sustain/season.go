@@ -101,13 +101,14 @@ func writeSeason(c *cli.Context, res ingest.Result, rep estimate.SeasonReport, s
 		}
 	} else {
 		renderSeason(w, out, so, firstDate(res), lastDate(res))
+		reportSkipped(c.App.ErrWriter, out.Skipped)
 	}
 	if p := c.String("plot"); p != "" && len(rep.Windows) > 0 {
 		if err := plotSeason(p, rep, title); err != nil {
 			return fmt.Errorf("plot %s: %w", p, err)
 		}
 		if !c.Bool("json") {
-			fmt.Fprintf(w, "\nplot written to %s\n", p)
+			fmt.Fprintf(c.App.ErrWriter, "plot written to %s\n", p)
 		}
 	}
 	return nothingRead(res)
@@ -253,10 +254,6 @@ func renderSeason(w io.Writer, out seasonOut, so estimate.SeasonOptions, first, 
 		i = j
 	}
 	fmt.Fprintf(w, "\nOverall: %s\n", out.Overall)
-	if len(out.Skipped) > 0 {
-		fmt.Fprintln(w)
-		reportSkipped(w, out.Skipped)
-	}
 }
 
 // squad: one row per athlete, or one athlete's season with --athlete.

@@ -475,7 +475,7 @@ func (s *Store) scan(paths []string, opts ingest.Options) (ingest.Result, []powe
 		switch {
 		case e.fresh:
 			st.Decoded++
-		case e.reason == "" || e.loaded || e.known:
+		case e.hash != "": // answered from the store (a file that could not be hashed is neither)
 			st.Cached++
 		}
 		if e.repaired {
