@@ -66,7 +66,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 		ErrWriter: stderr,
 		// flag errors come back as errors and become exit status 2, with
 		// no help text on stdout (which carries results only)
-		OnUsageError: onUsageError,
+		OnUsageError:   onUsageError,
 		ExitErrHandler: func(*cli.Context, error) {},
 		// a repeatable flag takes one value each time: a value such as
 		// FILE@0:10:00+30m=2.0,2.4 keeps its comma
