@@ -6,19 +6,19 @@ import (
 	"strings"
 )
 
-// Method names for comparing estimates: the three model fits and the three
-// rules of thumb.
+// Method names for comparing estimates: the three model fits and the
+// default rules of thumb (others are named by their duration, see
+// RuleSpec.Method).
 const (
 	MethodCP2    = "cp2"
 	MethodMorton = "morton"
 	MethodOmni   = "ompd"
 	Method20Min  = "20min"
-	Method8Min   = "8min"
 	Method60Min  = "60min"
 )
 
 // Methods lists every method in its usual order.
-var Methods = []string{MethodCP2, MethodMorton, MethodOmni, Method20Min, Method8Min, Method60Min}
+var Methods = []string{MethodCP2, MethodMorton, MethodOmni, Method20Min, Method60Min}
 
 // ParseMethods reads a comma-separated list of Methods and of the extra
 // names given (methods of other sources, such as lactate tests); "morton3"
@@ -61,8 +61,7 @@ func ByMethod(rep Report) map[string]MethodEstimate {
 		}
 	}
 	for _, r := range rep.Rules {
-		m := map[int]string{1200: Method20Min, 480: Method8Min, 3600: Method60Min}[r.Effort.DurationS]
-		out[m] = MethodEstimate{r.Watts, r.Confidence}
+		out[RuleMethod(r.Effort.DurationS)] = MethodEstimate{r.Watts, r.Confidence}
 	}
 	return out
 }

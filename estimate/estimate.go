@@ -103,6 +103,9 @@ type Options struct {
 	// Differential selects the 2015 differential form of W′ balance
 	// (Skiba et al. 2015) instead of the 2012 integral form.
 	Differential bool
+	// Rules are the rules of thumb shown beside the models (default
+	// DefaultRules).
+	Rules []RuleSpec
 	// NoAudit leaves out the W′ balance audit (a replay of every ride in
 	// the window), for callers that do not show it (a season's windows).
 	NoAudit bool
@@ -117,6 +120,9 @@ func (o *Options) defaults() {
 	}
 	if o.StaleDays <= 0 {
 		o.StaleDays = 42
+	}
+	if o.Rules == nil {
+		o.Rules = DefaultRules
 	}
 }
 
@@ -188,7 +194,7 @@ func Estimate(rides []ingest.Ride, curves []powerduration.RideCurve, w powerdura
 		confirmLong(rep.Efforts, opts.CP2MaxS, 0, index)
 		cp0, w0 = startValues(clean)
 	}
-	rep.Rules = rules(clean, rep.Efforts, rep.model(ModelCP2))
+	rep.Rules = rules(clean, rep.Efforts, rep.model(ModelCP2), opts.Rules)
 	pmax0 := 0.0
 	if p, ok := clean.At(1); ok {
 		pmax0 = p.Watts
@@ -266,22 +272,22 @@ func (r *Report) model(name string) *Fit {
 // maximal effort of its own (for the 60-min rule: consistent with the CP of
 // the 2–20 min efforts, see LongShare), low otherwise. A rule of thumb is
 // never graded high: it has no standard error.
-func rules(c powerduration.Curve, es []Effort, cp2 *Fit) []Rule {
+func rules(c powerduration.Curve, es []Effort, cp2 *Fit, specs []RuleSpec) []Rule {
 	var out []Rule
-	for _, r := range []struct {
-		name string
-		d    int
-		f    float64
-	}{{"95% of best 20 min", 1200, 0.95}, {"90% of best 8 min", 480, 0.90}, {"best 60 min", 3600, 1}} {
+	for _, spec := range specs {
+		r := struct {
+			d int
+			f float64
+		}{spec.DurationS, spec.Share}
 		p, ok := c.At(r.d)
 		if !ok || p.Watts <= 0 {
 			continue
 		}
-		rule := Rule{Rule: r.name, Watts: r.f * p.Watts, Effort: p, Note: "common practice", Confidence: Low}
+		rule := Rule{Rule: spec.Name(), Watts: r.f * p.Watts, Effort: p, Note: "common practice", Confidence: Low}
 		i := slices.IndexFunc(es, func(e Effort) bool { return e.DurationS == r.d })
 		switch {
 		case i < 0:
-			rule.Reason = "no effort of that duration"
+			rule.Reason = "no effort of that duration was looked for or found"
 		case es[i].Status == EffortUsed && (r.d <= 1200 || cp2 != nil):
 			rule.Confidence = Medium
 			rule.Reason = "a maximal effort of its own; a rule of thumb has no standard error"

@@ -153,7 +153,7 @@ func TestLongBestMustMatchCP(t *testing.T) {
 	}
 	c := powerduration.Curve{Points: []powerduration.Point{es[1].Point}}
 	cp2 := &Fit{Model: ModelCP2, CPW: 300, WPrimeJ: 20000}
-	rs := rules(c, es, cp2)
+	rs := rules(c, es, cp2, DefaultRules)
 	if len(rs) != 1 || rs[0].Confidence != Low || !strings.Contains(rs[0].Reason, "not consistent with the CP") {
 		t.Errorf("rules %+v", rs)
 	}
@@ -267,5 +267,35 @@ func TestLongBestMustBePaced(t *testing.T) {
 	hour := powerduration.Point{DurationS: 3600, Watts: 203, OffsetS: 3600, Source: powerduration.SourceOf(&steady)}
 	if paced(hour, &steady) {
 		t.Error("an hour of an endurance ride stands out from the ride")
+	}
+}
+
+// Rules of thumb are named by the analyst as DURATION:SHARE; the default
+// is 95 % of the best 20 min and the best 60 min (common practice), and a
+// rule reads, and is compared, by its duration.
+func TestParseRules(t *testing.T) {
+	rs, err := ParseRules("20m:0.95, 8m:0.9,1h:1,90s:0.8")
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []struct {
+		d            int
+		name, method string
+	}{{1200, "95% of best 20 min", "20min"}, {480, "90% of best 8 min", "8min"}, {3600, "best 60 min", "60min"}, {90, "80% of best 1.5 min", "90s"}}
+	if len(rs) != len(want) {
+		t.Fatalf("%+v", rs)
+	}
+	for i, w := range want {
+		if rs[i].DurationS != w.d || rs[i].Name() != w.name || rs[i].Method() != w.method {
+			t.Errorf("rule %d: %+v reads %q, method %q; want %+v", i, rs[i], rs[i].Name(), rs[i].Method(), w)
+		}
+	}
+	for _, bad := range []string{"", "20m", "20m:0", "20m:1.5", "20x:0.9", "0s:1", "20m:0.9,20m:0.95", "7h:1", "1.5s:1"} {
+		if _, err := ParseRules(bad); err == nil {
+			t.Errorf("%q accepted", bad)
+		}
+	}
+	if len(DefaultRules) != 2 || DefaultRules[0] != (RuleSpec{1200, 0.95}) || DefaultRules[1] != (RuleSpec{3600, 1}) {
+		t.Errorf("defaults %+v", DefaultRules)
 	}
 }

@@ -37,7 +37,15 @@ func compareCommand() *cli.Command {
 }
 
 func compareAction(c *cli.Context) error {
-	methods, err := estimate.ParseMethods(c.String("methods"), lactateMethods()...)
+	eo, err := estimateOptions(c)
+	if err != nil {
+		return err
+	}
+	extra := lactateMethods()
+	for _, r := range eo.Rules { // each rule of thumb named is a method
+		extra = append(extra, r.Method())
+	}
+	methods, err := estimate.ParseMethods(c.String("methods"), extra...)
 	if err != nil {
 		return usageError{"--methods: " + err.Error()}
 	}
@@ -45,10 +53,6 @@ func compareAction(c *cli.Context) error {
 	days, err := powerduration.ParseDays(c.String("window"))
 	if err != nil {
 		return usageError{"--window: " + err.Error()}
-	}
-	eo, err := estimateOptions(c)
-	if err != nil {
-		return err
 	}
 	if err := checkMassAndPlot(c); err != nil {
 		return err

@@ -20,6 +20,7 @@ func estimateFlags() []cli.Flag {
 		&cli.StringFlag{Name: "model", Usage: "headline model instead of the best-supported one: " + strings.Join(modelNames, ", ")},
 		&cli.StringFlag{Name: "cp2-range", Value: "2m-20m", Usage: "durations of the efforts the 2-parameter fit uses, e.g. 3m-15m"},
 		&cli.BoolFlag{Name: "differential", Usage: "W′ balance audit with the differential form (Skiba et al. 2015) instead of the integral form (2012)"},
+		&cli.StringFlag{Name: "rule", Value: "20m:0.95,60m:1", Usage: "rules of thumb beside the models, DURATION:SHARE of its best mean power (common practice: 20m:0.95 and 60m:1); each is also a method of compare (20min, 60min, …)"},
 	}
 }
 
@@ -41,6 +42,9 @@ func estimateOptions(c *cli.Context) (estimate.Options, error) {
 	}
 	o.CP2MinS, o.CP2MaxS = lo, hi
 	o.Differential = c.Bool("differential")
+	if o.Rules, err = estimate.ParseRules(c.String("rule")); err != nil {
+		return o, usageError{"--rule: " + err.Error()}
+	}
 	return o, nil
 }
 

@@ -106,7 +106,7 @@ func TestEstimateJSONContract(t *testing.T) {
 			t.Errorf("model %s missing", n)
 		}
 	}
-	if len(js.Rules) != 3 || !strings.Contains(js.Advice.Caution, "medical clearance") {
+	if len(js.Rules) != 2 || !strings.Contains(js.Advice.Caution, "medical clearance") {
 		t.Errorf("rules %+v advice %+v", js.Rules, js.Advice)
 	}
 }
