@@ -115,6 +115,7 @@ func estimateAction(c *cli.Context) error {
 	}
 	rep := estimate.Estimate(res.Rides, curves, win, opts)
 	out := estimateJSON(rep, res.Skipped)
+	out.Threshold.perKG(c.Float64("mass"))
 	w := c.App.Writer
 	if c.Bool("json") {
 		if err := writeJSON(w, out); err != nil {
@@ -176,6 +177,27 @@ type thresholdJSON struct {
 	FloorW     *float64 `json:"floor_w,omitempty"`
 	FloorRule  string   `json:"floor_rule,omitempty"`
 	RangeRule  string   `json:"range_rule"`
+	// with --mass: the same per kilogram, and the mass
+	MassKG      *float64 `json:"mass_kg,omitempty"`
+	WattsPerKG  *float64 `json:"w_per_kg,omitempty"`
+	LowWPerKG   *float64 `json:"low_w_per_kg,omitempty"`
+	HighWPerKG  *float64 `json:"high_w_per_kg,omitempty"`
+	FloorWPerKG *float64 `json:"floor_w_per_kg,omitempty"`
+}
+
+// perKG adds the threshold per kilogram of a rider of massKG (> 0).
+func (t *thresholdJSON) perKG(massKG float64) {
+	if massKG <= 0 {
+		return
+	}
+	per := func(w *float64) *float64 {
+		if w == nil {
+			return nil
+		}
+		return ptr(*w / massKG)
+	}
+	t.MassKG = ptr(massKG)
+	t.WattsPerKG, t.LowWPerKG, t.HighWPerKG, t.FloorWPerKG = per(t.Watts), per(t.LowW), per(t.HighW), per(t.FloorW)
 }
 
 func thresholdOf(th *estimate.Threshold) thresholdJSON {

@@ -141,3 +141,28 @@ func TestEstimateUsage(t *testing.T) {
 		}
 	}
 }
+
+// With --mass, the JSON headline carries W/kg (the watts over the mass)
+// beside the watts, keys with their units.
+func TestEstimateJSONPerKG(t *testing.T) {
+	dir := seasonFolder(t, synth.Athlete{CPW: 270, WPrimeJ: 20000, PmaxW: 1000}, 8, true)
+	code, out, errs := runCmd(t, "estimate", dir, "--json", "--mass", "68.5", "--no-store")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var raw struct {
+		Threshold map[string]any `json:"threshold"`
+	}
+	if err := json.Unmarshal([]byte(out), &raw); err != nil {
+		t.Fatal(err)
+	}
+	th := raw.Threshold
+	w, _ := th["watts"].(float64)
+	perKG, _ := th["w_per_kg"].(float64)
+	mass, _ := th["mass_kg"].(float64)
+	lo, _ := th["low_w"].(float64)
+	loKG, _ := th["low_w_per_kg"].(float64)
+	if w <= 0 || mass != 68.5 || math.Abs(perKG-w/68.5) > 1e-12 || math.Abs(loKG-lo/68.5) > 1e-12 {
+		t.Errorf("threshold %v", th)
+	}
+}
