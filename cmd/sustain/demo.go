@@ -1,7 +1,10 @@
 package main
 
 import (
+	"bytes"
+	"encoding/json"
 	"fmt"
+	"io"
 	"os"
 	"path/filepath"
 	"slices"
@@ -28,6 +31,7 @@ func demoCommand() *cli.Command {
 		Flags: []cli.Flag{
 			&cli.StringFlag{Name: "out", Usage: "folder for the invented rides and the plots (default: a new temporary folder); a folder that holds anything is refused unless --force"},
 			&cli.BoolFlag{Name: "force", Usage: "write into --out even when it holds files (the demo's own files are replaced)"},
+			&cli.BoolFlag{Name: "json", Usage: "print the invented season and each command's JSON result in one JSON object"},
 		},
 		Action: demoAction,
 	}
@@ -74,6 +78,10 @@ func demoAction(c *cli.Context) error {
 		return err
 	}
 	w := c.App.Writer
+	asJSON := c.Bool("json")
+	if asJSON {
+		w = io.Discard // the text; the JSON is written at the end
+	}
 	fmt.Fprintf(w, "An invented season: %d weeks of rides (FIT, TCX and gzipped CSV) by an invented athlete with CP %.0f W, W′ %.1f kJ and\n",
 		demoWeeks, demoAthlete.CPW, demoAthlete.WPrimeJ/1000)
 	fmt.Fprintf(w, "Pmax %.0f W at the start; a block from week 7 to week 12 raises CP by %d W and trims W′ by %.1f kJ. A few files carry\n",
@@ -88,17 +96,40 @@ func demoAction(c *cli.Context) error {
 		{"season", rides, "--plot", seasonPlot},
 		{"lactate", stepsCSV, "--trials", trialsCSV, "--rides", rides, "--plot", labPlot},
 	}
+	type stepJSON struct {
+		Command []string        `json:"command"`
+		Result  json.RawMessage `json:"result"`
+	}
+	var results []stepJSON
 	for _, args := range steps {
 		if c.Bool("force") && slices.Contains(args, "--plot") {
 			args = append(args, "--force") // the plots of an earlier demo in the same folder
 		}
 		fmt.Fprintf(w, "\n$ sustain %s\n", strings.Join(args, " "))
-		app := newApp(w, w) // the commands' messages in line with their results, as a terminal shows them
+		out, errs := w, w // the commands' messages in line with their results, as a terminal shows them
+		var buf bytes.Buffer
+		if asJSON {
+			args = append(args, "--json")
+			out, errs = &buf, c.App.ErrWriter
+		}
+		app := newApp(out, errs)
 		if err := app.Run(interspersed(app, append([]string{"sustain"}, args...))); err != nil {
 			return fmt.Errorf("demo step %q: %w", args[0], err)
+		}
+		if asJSON {
+			results = append(results, stepJSON{Command: append([]string{"sustain"}, args...), Result: json.RawMessage(bytes.TrimSpace(buf.Bytes()))})
 		}
 	}
 	fmt.Fprintf(w, "\nPlots: %s, %s, %s, %s\n", curvePlot, estPlot, seasonPlot, labPlot)
 	fmt.Fprintf(w, "Everything above is invented data. Point the same commands at your own ride folder to analyse your season.\n")
+	if asJSON {
+		return writeJSON(c.App.Writer, map[string]any{
+			"invented": true, "rides_folder": rides, "lab_folder": lab,
+			"athlete": map[string]float64{"cp_w": demoAthlete.CPW, "w_prime_j": demoAthlete.WPrimeJ, "pmax_w": demoAthlete.PmaxW},
+			"block":   map[string]any{"weeks": "7-12", "cp_gain_w": demoCPGainW, "w_prime_loss_j": demoWLossJ},
+			"steps":   results,
+			"plots":   []string{curvePlot, estPlot, seasonPlot, labPlot},
+		})
+	}
 	return nil
 }

@@ -125,8 +125,15 @@ func exportAction(c *cli.Context) error {
 		return fmt.Errorf("export to %s: %w", c.String("out"), err)
 	}
 	w := c.App.Writer
-	fmt.Fprintf(w, "wrote %d rides, %d curve points and %d estimates to %s (%s)\n", len(rides.Rows), len(points.Rows), len(ests.Rows), c.String("out"), format)
-	reportSkipped(c.App.ErrWriter, skipped)
+	if c.Bool("json") {
+		if err := writeJSON(w, map[string]any{"format": format, "out": c.String("out"), "rides": len(rides.Rows),
+			"curve_points": len(points.Rows), "estimates": len(ests.Rows), "skipped": nonNil(skipped)}); err != nil {
+			return err
+		}
+	} else {
+		fmt.Fprintf(w, "wrote %d rides, %d curve points and %d estimates to %s (%s)\n", len(rides.Rows), len(points.Rows), len(ests.Rows), c.String("out"), format)
+		reportSkipped(c.App.ErrWriter, skipped)
+	}
 	if n == 0 {
 		return cli.Exit("no ride could be read", exitNothing)
 	}

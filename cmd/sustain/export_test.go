@@ -3,6 +3,8 @@ package main
 import (
 	"database/sql"
 	"encoding/csv"
+	"encoding/json"
+	"github.com/sustain-cycling/sustain/internal/synth"
 	"os"
 	"path/filepath"
 	"strings"
@@ -113,5 +115,38 @@ func TestCSVCellsAreNotFormulas(t *testing.T) {
 	b, _ := os.ReadFile(filepath.Join(out, "rides.csv"))
 	if strings.Contains(string(b), "\n=HYPERLINK") || !strings.Contains(string(b), "\n'=HYPERLINK(1),") {
 		t.Errorf("rides.csv:\n%.300s", b)
+	}
+}
+
+// Every command answers --json: export says what it wrote, the demo gives
+// the invented season and each command's own JSON result.
+func TestExportAndDemoJSON(t *testing.T) {
+	dir := seasonFolder(t, synth.Athlete{CPW: 270, WPrimeJ: 20000, PmaxW: 1000}, 4, true)
+	db := filepath.Join(t.TempDir(), "x.db")
+	code, out, errs := runCmd(t, "export", dir, "--out", db, "--json", "--no-store")
+	var ex struct {
+		Format      string `json:"format"`
+		Rides       int    `json:"rides"`
+		CurvePoints int    `json:"curve_points"`
+		Skipped     []any  `json:"skipped"`
+	}
+	if err := json.Unmarshal([]byte(out), &ex); code != exitOK || err != nil || ex.Format != "sqlite" || ex.Rides != 8 || ex.CurvePoints < 8*3600 || ex.Skipped == nil {
+		t.Errorf("export: exit %d, %v, %+v\n%s", code, err, ex, errs)
+	}
+	code, out, errs = runCmd(t, "demo", "--out", filepath.Join(t.TempDir(), "demo"), "--json")
+	var demo struct {
+		Athlete struct {
+			CPW float64 `json:"cp_w"`
+		} `json:"athlete"`
+		Steps []struct {
+			Command []string       `json:"command"`
+			Result  map[string]any `json:"result"`
+		} `json:"steps"`
+	}
+	if err := json.Unmarshal([]byte(out), &demo); code != exitOK || err != nil || demo.Athlete.CPW != demoAthlete.CPW || len(demo.Steps) != 5 {
+		t.Fatalf("demo: exit %d, %v\n%s", code, err, errs)
+	}
+	if th, _ := demo.Steps[2].Result["threshold"].(map[string]any); th == nil || th["watts"] == nil {
+		t.Errorf("the demo's estimate step has no threshold: %v", demo.Steps[2].Result)
 	}
 }
