@@ -6,32 +6,44 @@ import (
 	"strings"
 )
 
-// Method names for comparing estimates: the three model fits and the
-// default rules of thumb (others are named by their duration, see
-// RuleSpec.Method).
+// Method names for comparing estimates: the three model fits (by the
+// models' own names, as everywhere) and the default rules of thumb (others
+// are named by their duration, see RuleSpec.Method).
 const (
-	MethodCP2    = "cp2"
-	MethodMorton = "morton"
-	MethodOmni   = "ompd"
+	MethodCP2    = ModelCP2
+	MethodMorton = ModelMorton
+	MethodOmni   = ModelOmni
 	Method20Min  = "20min"
 	Method60Min  = "60min"
 )
+
+// ModelName is the model a name means, one set of names for every command:
+// cp2, cp2-work, cp2-inverse, morton3 and omni, also written morton,
+// ompd and omni-domain. ok is false for a name that is none of them.
+func ModelName(s string) (name string, ok bool) {
+	switch s = strings.TrimSpace(strings.ToLower(s)); s {
+	case ModelCP2, ModelCP2Work, ModelCP2Inverse, ModelMorton, ModelOmni:
+		return s, true
+	case "morton":
+		return ModelMorton, true
+	case "ompd", "omni-domain":
+		return ModelOmni, true
+	}
+	return s, false
+}
 
 // Methods lists every method in its usual order.
 var Methods = []string{MethodCP2, MethodMorton, MethodOmni, Method20Min, Method60Min}
 
 // ParseMethods reads a comma-separated list of Methods and of the extra
-// names given (methods of other sources, such as lactate tests); "morton3"
-// and "omni" are accepted for morton and ompd.
+// names given (methods of other sources, such as lactate tests); a model
+// may be named as ModelName reads it.
 func ParseMethods(s string, extra ...string) ([]string, error) {
 	var out []string
 	for _, m := range strings.Split(s, ",") {
 		m = strings.TrimSpace(strings.ToLower(m))
-		switch m {
-		case ModelMorton:
-			m = MethodMorton
-		case ModelOmni:
-			m = MethodOmni
+		if model, ok := ModelName(m); ok {
+			m = model
 		}
 		known := append(append([]string(nil), Methods...), extra...)
 		if !slices.Contains(known, m) {

@@ -99,7 +99,7 @@ func compareAction(c *cli.Context) error {
 	case c.Bool("json"):
 		err = writeJSON(w, compareJSON(subjects, pairs, skipped))
 	case c.Bool("csv"):
-		err = writeCompareCSV(w, subjects, methods)
+		err = writeCompareCSV(w, subjects, pairs, methods)
 	default:
 		renderCompare(w, kind, subjects, pairs, methods, skipped)
 		reportSkipped(c.App.ErrWriter, skipped)
@@ -139,6 +139,38 @@ type pairJSON struct {
 	UpperW  *float64 `json:"upper_limit_w"`
 	R       *float64 `json:"r"`
 	LeftOut []string `json:"left_out"`
+	Note    string   `json:"note,omitempty"`
+}
+
+// Small samples: a correlation of fewer than minPairsForR subjects means
+// little (two points always lie on a line) and is not given; limits of
+// agreement from fewer than fewPairs subjects are given with a note.
+const (
+	minPairsForR = 5
+	fewPairs     = 10
+)
+
+// pairNote says what a pair's sample size leaves uncertain, or "".
+func pairNote(p estimate.PairAgreement) string {
+	switch {
+	case p.N < 2:
+		return "fewer than 2 subjects with both estimates: nothing to compare"
+	case p.N < minPairsForR:
+		return fmt.Sprintf("only %d subjects: the limits of agreement are rough and r is not given (it needs %d)", p.N, minPairsForR)
+	case p.N < fewPairs:
+		return fmt.Sprintf("only %d subjects: the limits of agreement are rough", p.N)
+	case math.IsNaN(p.R):
+		return "one method gave the same value for every subject: r is undefined"
+	}
+	return ""
+}
+
+// pairR is r where the sample allows it.
+func pairR(p estimate.PairAgreement) *float64 {
+	if p.N < minPairsForR {
+		return nil
+	}
+	return finite(p.R)
 }
 
 // finite returns nil for a number JSON cannot hold.
@@ -152,9 +184,12 @@ func finite(v float64) *float64 {
 func compareJSON(subjects []estimate.Subject, pairs []estimate.PairAgreement, skipped []ingest.Skipped) map[string]any {
 	ps := []pairJSON{}
 	for _, p := range pairs {
-		j := pairJSON{A: p.A, B: p.B, N: p.N, LeftOut: p.LeftOut}
+		j := pairJSON{A: p.A, B: p.B, N: p.N, LeftOut: p.LeftOut, Note: pairNote(p)}
+		if j.LeftOut == nil {
+			j.LeftOut = []string{}
+		}
 		if p.N >= 2 {
-			j.BiasW, j.SDW, j.LowerW, j.UpperW, j.R = finite(p.Bias), finite(p.SD), finite(p.LowerL), finite(p.UpperL), finite(p.R)
+			j.BiasW, j.SDW, j.LowerW, j.UpperW, j.R = finite(p.Bias), finite(p.SD), finite(p.LowerL), finite(p.UpperL), pairR(p)
 		}
 		ps = append(ps, j)
 	}
@@ -164,15 +199,31 @@ func compareJSON(subjects []estimate.Subject, pairs []estimate.PairAgreement, sk
 	return map[string]any{"subjects": subjects, "pairs": ps, "skipped": nonNil(skipped)}
 }
 
-func writeCompareCSV(w io.Writer, subjects []estimate.Subject, methods []string) error {
+// writeCompareCSV writes one table of two kinds of rows: each subject's
+// estimate by each method (table "estimate"), then each pair's agreement
+// (table "agreement"); a column a row kind does not have is empty.
+func writeCompareCSV(w io.Writer, subjects []estimate.Subject, pairs []estimate.PairAgreement, methods []string) error {
 	cw := csv.NewWriter(w)
-	cw.Write([]string{"subject", "method", "watts", "confidence"})
+	cw.Write([]string{"table", "subject", "method", "watts", "confidence",
+		"a", "b", "n", "bias_w", "sd_w", "lower_limit_w", "upper_limit_w", "r", "left_out", "note"})
+	num := func(v *float64) string {
+		if v == nil {
+			return ""
+		}
+		return strconv.FormatFloat(*v, 'f', 2, 64)
+	}
 	for _, s := range subjects {
 		for _, m := range methods {
 			if e, ok := s.Estimates[m]; ok {
-				cw.Write([]string{s.Name, m, strconv.FormatFloat(e.Watts, 'f', 1, 64), e.Confidence})
+				cw.Write([]string{"estimate", s.Name, m, strconv.FormatFloat(e.Watts, 'f', 1, 64), e.Confidence,
+					"", "", "", "", "", "", "", "", "", ""})
 			}
 		}
+	}
+	for _, p := range pairs {
+		j := compareJSON(nil, []estimate.PairAgreement{p}, nil)["pairs"].([]pairJSON)[0]
+		cw.Write([]string{"agreement", "", "", "", "", j.A, j.B, strconv.Itoa(j.N), num(j.BiasW), num(j.SDW),
+			num(j.LowerW), num(j.UpperW), num(j.R), strings.Join(j.LeftOut, "; "), j.Note})
 	}
 	cw.Flush()
 	return cw.Error()
@@ -197,14 +248,33 @@ func renderCompare(w io.Writer, kind string, subjects []estimate.Subject, pairs 
 	fmt.Fprintln(w, "\nAgreement (Bland & Altman 1986): difference a − b; limits of agreement = bias ± 1.96 SD; estimates graded low left out")
 	tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "a − b\tn\tbias (W)\tSD (W)\t95% limits (W)\tr\tleft out\t")
+	var notes []string // each note once, with the pairs it is about
+	notedPairs := map[string][]string{}
 	for _, p := range pairs {
+		if note := pairNote(p); note != "" {
+			if notedPairs[note] == nil {
+				notes = append(notes, note)
+			}
+			notedPairs[note] = append(notedPairs[note], p.A+" − "+p.B)
+		}
 		if p.N < 2 {
 			fmt.Fprintf(tw, "%s − %s\t%d\t-\t-\t-\t-\t%d\t\n", p.A, p.B, p.N, len(p.LeftOut))
 			continue
 		}
-		fmt.Fprintf(tw, "%s − %s\t%d\t%+.1f\t%.1f\t%+.1f to %+.1f\t%.2f\t%d\t\n", p.A, p.B, p.N, p.Bias, p.SD, p.LowerL, p.UpperL, p.R, len(p.LeftOut))
+		r := "-"
+		if v := pairR(p); v != nil {
+			r = fmt.Sprintf("%.2f", *v)
+		}
+		fmt.Fprintf(tw, "%s − %s\t%d\t%+.1f\t%.1f\t%+.1f to %+.1f\t%s\t%d\t\n", p.A, p.B, p.N, p.Bias, p.SD, p.LowerL, p.UpperL, r, len(p.LeftOut))
 	}
 	tw.Flush()
+	for _, n := range notes {
+		which := strings.Join(notedPairs[n], ", ")
+		if len(notedPairs[n]) == len(pairs) {
+			which = "every pair"
+		}
+		fmt.Fprintf(w, "  %s: %s\n", which, n)
+	}
 	header := false
 	for _, s := range subjects {
 		var low, missing []string

@@ -51,6 +51,8 @@ func TestCompareSquadBias(t *testing.T) {
 			SDW   *float64 `json:"sd_w"`
 			LoW   *float64 `json:"lower_limit_w"`
 			HiW   *float64 `json:"upper_limit_w"`
+			R     *float64 `json:"r"`
+			Note  string   `json:"note"`
 		} `json:"pairs"`
 	}
 	if err := json.Unmarshal([]byte(out), &js); err != nil {
@@ -59,8 +61,8 @@ func TestCompareSquadBias(t *testing.T) {
 	if len(js.Subjects) != 5 || len(js.Pairs) != 3 {
 		t.Fatalf("%d subjects, %d pairs", len(js.Subjects), len(js.Pairs))
 	}
-	p := js.Pairs[0] // morton − 20min
-	if p.A != "morton" || p.B != "20min" || p.N != 5 || p.BiasW == nil {
+	p := js.Pairs[0] // morton3 − 20min
+	if p.A != "morton3" || p.B != "20min" || p.N != 5 || p.BiasW == nil {
 		t.Fatalf("pair %+v", p)
 	}
 	// morton − 20min = −(20-min rule − CP)
@@ -73,12 +75,38 @@ func TestCompareSquadBias(t *testing.T) {
 	if st, err := os.Stat(plot); err != nil || st.Size() < 5000 {
 		t.Errorf("plot: %v", err)
 	}
-	code, out, _ = runCmd(t, "compare", dir, "--methods", "morton,20min")
-	if code != exitOK || !strings.Contains(out, "morton − 20min") || !strings.Contains(out, "Bland & Altman") {
+	code, out, _ = runCmd(t, "compare", dir, "--methods", "morton,20min") // morton reads as morton3
+	if code != exitOK || !strings.Contains(out, "morton3 − 20min") || !strings.Contains(out, "Bland & Altman") {
 		t.Errorf("table:\n%s", out)
 	}
 	if code, _, _ := runCmd(t, "compare", dir, "--methods", "morton"); code != exitUsage {
 		t.Errorf("one method: exit %d", code)
+	}
+	// five subjects: r is given, the limits come with a note; --csv holds
+	// the agreement rows too
+	if p.R == nil || p.Note == "" || !strings.Contains(p.Note, "only 5 subjects") {
+		t.Errorf("n = 5: r %v, note %q", p.R, p.Note)
+	}
+	code, out, _ = runCmd(t, "compare", dir, "--methods", "morton,20min", "--csv")
+	if code != exitOK || !strings.Contains(out, "\nagreement,,,,,morton3,20min,5,") {
+		t.Errorf("csv:\n%s", out)
+	}
+	// two athletes: no r (two points always lie on a line), and a note
+	two := t.TempDir()
+	for i, a := range squad[:2] {
+		writeAthlete(t, two, a.Name, func(int) synth.Athlete { return a }, 12, uint64(i+1))
+	}
+	code, out, _ = runCmd(t, "compare", two, "--methods", "cp2,20min", "--json")
+	var small struct {
+		Pairs []struct {
+			N    int      `json:"n"`
+			R    *float64 `json:"r"`
+			Note string   `json:"note"`
+		} `json:"pairs"`
+	}
+	if err := json.Unmarshal([]byte(out), &small); code != exitOK || err != nil || len(small.Pairs) != 1 ||
+		small.Pairs[0].N != 2 || small.Pairs[0].R != nil || !strings.Contains(small.Pairs[0].Note, "r is not given") {
+		t.Errorf("two athletes: exit %d, %v, %+v", code, err, small)
 	}
 }
 

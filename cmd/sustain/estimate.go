@@ -27,14 +27,11 @@ func estimateFlags() []cli.Flag {
 func estimateOptions(c *cli.Context) (estimate.Options, error) {
 	var o estimate.Options
 	if m := c.String("model"); m != "" {
-		found := false
-		for _, n := range modelNames {
-			found = found || n == m
-		}
-		if !found {
+		name, ok := estimate.ModelName(m)
+		if !ok {
 			return o, usageError{fmt.Sprintf("--model takes one of %s, not %q", strings.Join(modelNames, ", "), m)}
 		}
-		o.Model = m
+		o.Model = name
 	}
 	lo, hi, err := parseRange(c.String("cp2-range"))
 	if err != nil {

@@ -166,3 +166,20 @@ func TestEstimateJSONPerKG(t *testing.T) {
 		t.Errorf("threshold %v", th)
 	}
 }
+
+// One set of model names everywhere: morton and ompd read as morton3 and
+// omni in --model, --components and --methods alike.
+func TestModelNamesAgree(t *testing.T) {
+	dir := seasonFolder(t, synth.Athlete{CPW: 270, WPrimeJ: 20000, PmaxW: 1000}, 8, true)
+	code, out, errs := runCmd(t, "estimate", dir, "--model", "morton", "--json", "--no-store")
+	var js estimateJS
+	if err := json.Unmarshal([]byte(out), &js); code != exitOK || err != nil || js.Threshold == nil || js.Threshold.Model != "morton3" {
+		t.Errorf("--model morton: exit %d, %v, %+v %s", code, err, js.Threshold, errs)
+	}
+	if code, _, errs := runCmd(t, "season", dir, "--components", "omni-domain", "--no-store"); code != exitOK {
+		t.Errorf("--components omni-domain: exit %d %s", code, errs)
+	}
+	if code, _, _ := runCmd(t, "estimate", dir, "--model", "monod", "--no-store"); code != exitUsage {
+		t.Errorf("--model monod: exit %d", code)
+	}
+}

@@ -45,11 +45,11 @@ func seasonOptions(c *cli.Context) (estimate.SeasonOptions, error) {
 	if so.StepDays, err = powerduration.ParseDays(c.String("step")); err != nil {
 		return so, usageError{"--step: " + err.Error()}
 	}
-	switch m := c.String("components"); m {
+	switch m, _ := estimate.ModelName(c.String("components")); m {
 	case estimate.ModelMorton, estimate.ModelOmni, estimate.ModelCP2:
 		so.Components = m
 	default:
-		return so, usageError{fmt.Sprintf("--components takes morton3, omni or cp2, not %q", m)}
+		return so, usageError{fmt.Sprintf("--components takes cp2, morton3 or omni, not %q", c.String("components"))}
 	}
 	return so, nil
 }
