@@ -40,6 +40,7 @@ const (
 	WarnNested      = "nested-efforts"
 	WarnFewEfforts  = "few-efforts"
 	WarnImplausible = "implausible"
+	WarnOldData     = "old-data"
 )
 
 // Warning is something wrong with the data as a whole.
@@ -103,6 +104,10 @@ type Options struct {
 	// Differential selects the 2015 differential form of W′ balance
 	// (Skiba et al. 2015) instead of the 2012 integral form.
 	Differential bool
+	// Today (YYYY-MM-DD), when set, is the day the estimate is read: a
+	// window whose newest ride is more than OldDays before it is warned of
+	// (old-data). Left empty, nothing is compared with the clock.
+	Today string
 	// Rules are the rules of thumb shown beside the models (default
 	// DefaultRules).
 	Rules []RuleSpec

@@ -162,6 +162,11 @@ func (c gradeContext) grade(f *Fit) Grade {
 }
 
 // warnings describe the data as a whole.
+// OldDays: a window whose newest ride is older than this before today is
+// warned of (a threshold moves within weeks of training or rest; common
+// practice is to retest every 4–6 weeks).
+const OldDays = 42
+
 func (c gradeContext) warnings(rep Report) []Warning {
 	var ws []Warning
 	band := c.cp2Band()
@@ -205,6 +210,11 @@ func (c gradeContext) warnings(rep Report) []Warning {
 	if ne := c.newestEffort(band); ne != "" {
 		if days := daysBetween(ne, c.newest); days > c.opts.StaleDays {
 			ws = append(ws, Warning{WarnStaleData, fmt.Sprintf("The newest maximal effort between %s and %s is from %s, %d days before your latest ride: threshold may have moved since.", lo, hi, ne, days)})
+		}
+	}
+	if c.opts.Today != "" && c.newest != "" {
+		if days := daysBetween(c.newest, c.opts.Today); days > OldDays {
+			ws = append(ws, Warning{WarnOldData, fmt.Sprintf("The newest ride in this window is from %s, more than %d days before today (%s): this is the threshold of then, and it may have moved since.", c.newest, OldDays, c.opts.Today)})
 		}
 	}
 	for _, f := range rep.Models {

@@ -143,3 +143,23 @@ func TestSeasonReadsPowerOnce(t *testing.T) {
 		}
 	}
 }
+
+// A window whose newest ride is more than OldDays before today is warned
+// of (old-data); one read the week after is not; without Today, nothing
+// is compared with the clock.
+func TestOldDataWarning(t *testing.T) {
+	rides, curves := seasonOf(t, synth.Block(synth.Athlete{CPW: 260, WPrimeJ: 21000, PmaxW: 1000}, 0, 0), 8)
+	newest := powerduration.Newest(curves)
+	w := powerduration.LastDays(newest, 42)
+	day, _ := powerduration.ParseDate(newest)
+	for _, c := range []struct {
+		today string
+		want  bool
+	}{{"", false}, {day.AddDate(0, 0, 7).Format("2006-01-02"), false}, {day.AddDate(0, 0, OldDays).Format("2006-01-02"), false},
+		{day.AddDate(0, 0, OldDays+1).Format("2006-01-02"), true}} {
+		rep := Estimate(rides, curves, w, Options{Today: c.today})
+		if got := hasCode(rep.Warnings, WarnOldData); got != c.want {
+			t.Errorf("today %q: old-data %v, want %v (%+v)", c.today, got, c.want, rep.Warnings)
+		}
+	}
+}

@@ -6,6 +6,7 @@ import (
 	"math"
 	"strings"
 	"text/tabwriter"
+	"time"
 
 	"github.com/sustain-cycling/sustain/estimate"
 	"github.com/sustain-cycling/sustain/ingest"
@@ -39,6 +40,7 @@ func estimateOptions(c *cli.Context) (estimate.Options, error) {
 	}
 	o.CP2MinS, o.CP2MaxS = lo, hi
 	o.Differential = c.Bool("differential")
+	o.Today = time.Now().Format("2006-01-02")
 	if o.Rules, err = estimate.ParseRules(c.String("rule")); err != nil {
 		return o, usageError{"--rule: " + err.Error()}
 	}
