@@ -2,6 +2,7 @@ package ingest
 
 import (
 	"errors"
+	"fmt"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -272,17 +273,16 @@ func walk(dir string, st os.FileInfo, visited map[fileKey]bool, add func(string)
 	}
 }
 
-// Squad reports whether dir is a coach's folder of athletes: it holds no
-// ride files of its own and at least two subfolders that hold rides, whose
-// names are not all dates or numbers (a rider's archive by year is not a
-// squad). It returns the athletes' folder names, sorted.
-func Squad(dir string) ([]string, bool) {
+// Athletes lists a coach's folder of athletes, declared as one (a folder
+// is never taken for a squad from its layout): its subfolders that hold
+// rides, sorted, each an athlete. A squad folder with no such subfolder,
+// or with ride files of its own (rides of no athlete), is an error.
+func Athletes(dir string) ([]string, error) {
 	entries, err := os.ReadDir(dir)
 	if err != nil {
-		return nil, false
+		return nil, fmt.Errorf("%s: %s", dir, pathReason(dir, err))
 	}
-	var names []string
-	allNumeric := true
+	var names, loose []string
 	for _, e := range entries {
 		p := filepath.Join(dir, e.Name())
 		st, err := os.Stat(p)
@@ -291,18 +291,20 @@ func Squad(dir string) ([]string, bool) {
 		}
 		if !st.IsDir() {
 			if IsRideName(e.Name()) {
-				return nil, false
+				loose = append(loose, e.Name())
 			}
 			continue
 		}
 		if files, _ := ListFiles([]string{p}); len(files) > 0 {
 			names = append(names, e.Name())
-			allNumeric = allNumeric && strings.Trim(e.Name(), "0123456789-_") == ""
 		}
 	}
-	if len(names) < 2 || allNumeric {
-		return nil, false
+	switch {
+	case len(loose) > 0:
+		return nil, fmt.Errorf("%s is named as a squad (one subfolder per athlete) but holds ride files of no athlete (%s…): move them into an athlete's folder", dir, loose[0])
+	case len(names) == 0:
+		return nil, fmt.Errorf("%s is named as a squad (one subfolder per athlete) but no subfolder holds rides", dir)
 	}
 	sort.Strings(names)
-	return names, true
+	return names, nil
 }

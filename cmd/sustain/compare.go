@@ -22,6 +22,7 @@ func compareCommand() *cli.Command {
 		&cli.StringFlag{Name: "methods", Value: strings.Join(estimate.Methods, ","), Usage: "methods to compare: " + strings.Join(append(append([]string{}, estimate.Methods...), lactateMethods()...), ", ") + " (the lactate methods need --lactate or --trials)"},
 		&cli.StringSliceFlag{Name: "lactate", Usage: "step-test CSV(s) with an athlete column (a squad) or dates (windows): their thresholds become methods obla4, lt2, base1, dmax, moddmax, loglog; repeat for more"},
 		&cli.StringSliceFlag{Name: "trials", Usage: "MLSS trial CSV(s) with an athlete column or dates: the MLSS bracket's middle becomes method mlss; repeat for more"},
+		squadFlag(),
 		&cli.StringFlag{Name: "window", Value: "90d", Usage: "each athlete's window, ending at their newest ride; for one athlete, the length of each of the consecutive windows compared"},
 		&cli.BoolFlag{Name: "csv", Usage: "print each subject's estimate by each method as CSV rows"},
 		&cli.StringFlag{Name: "plot", Usage: "Bland–Altman plots (difference against mean) of the first method against each other, to FILE.png or FILE.svg"},
@@ -66,7 +67,11 @@ func compareAction(c *cli.Context) error {
 	var subjects []estimate.Subject
 	skipped := labSkipped
 	kind := "windows"
-	if names, ok := squadOf(c); ok {
+	names, err := squadOf(c)
+	if err != nil {
+		return err
+	}
+	if names != nil {
 		kind = "athletes"
 		dir := c.Args().First()
 		for _, n := range names {
@@ -121,12 +126,26 @@ func compareAction(c *cli.Context) error {
 	return nil
 }
 
-// squadOf reports a single folder of athletes among the arguments.
-func squadOf(c *cli.Context) ([]string, bool) {
-	if c.NArg() != 1 {
-		return nil, false
+// squadFlag declares the one folder named a squad: a subfolder per
+// athlete. A folder is never taken for a squad from its layout.
+func squadFlag() cli.Flag {
+	return &cli.BoolFlag{Name: "squad", Usage: "the folder named holds one subfolder per athlete (without it, a folder is one rider's, however it is arranged)"}
+}
+
+// squadOf is the athletes of the folder declared a squad (--squad), or nil
+// when none was declared.
+func squadOf(c *cli.Context) ([]string, error) {
+	if !c.Bool("squad") {
+		return nil, nil
 	}
-	return ingest.Squad(c.Args().First())
+	if c.NArg() != 1 {
+		return nil, usageError{"--squad takes one folder, with a subfolder per athlete"}
+	}
+	names, err := ingest.Athletes(c.Args().First())
+	if err != nil {
+		return nil, usageError{err.Error()}
+	}
+	return names, nil
 }
 
 type pairJSON struct {

@@ -32,7 +32,7 @@ func TestCompareSquadBias(t *testing.T) {
 	}
 	want /= float64(len(squad))
 	plot := filepath.Join(t.TempDir(), "ba.png")
-	code, out, _ := runCmd(t, "compare", dir, "--methods", "morton,20min,cp2", "--json", "--plot", plot)
+	code, out, _ := runCmd(t, "compare", dir, "--squad", "--methods", "morton,20min,cp2", "--json", "--plot", plot)
 	if code != exitOK {
 		t.Fatalf("exit %d\n%s", code, out)
 	}
@@ -75,11 +75,11 @@ func TestCompareSquadBias(t *testing.T) {
 	if st, err := os.Stat(plot); err != nil || st.Size() < 5000 {
 		t.Errorf("plot: %v", err)
 	}
-	code, out, _ = runCmd(t, "compare", dir, "--methods", "morton,20min") // morton reads as morton3
+	code, out, _ = runCmd(t, "compare", dir, "--squad", "--methods", "morton,20min") // morton reads as morton3
 	if code != exitOK || !strings.Contains(out, "morton3 − 20min") || !strings.Contains(out, "Bland & Altman") {
 		t.Errorf("table:\n%s", out)
 	}
-	if code, _, _ := runCmd(t, "compare", dir, "--methods", "morton"); code != exitUsage {
+	if code, _, _ := runCmd(t, "compare", dir, "--squad", "--methods", "morton"); code != exitUsage {
 		t.Errorf("one method: exit %d", code)
 	}
 	// five subjects: r is given, the limits come with a note; --csv holds
@@ -87,7 +87,7 @@ func TestCompareSquadBias(t *testing.T) {
 	if p.R == nil || p.Note == "" || !strings.Contains(p.Note, "only 5 subjects") {
 		t.Errorf("n = 5: r %v, note %q", p.R, p.Note)
 	}
-	code, out, _ = runCmd(t, "compare", dir, "--methods", "morton,20min", "--csv")
+	code, out, _ = runCmd(t, "compare", dir, "--squad", "--methods", "morton,20min", "--csv")
 	if code != exitOK || !strings.Contains(out, "\nagreement,,,,,morton3,20min,5,") {
 		t.Errorf("csv:\n%s", out)
 	}
@@ -96,7 +96,7 @@ func TestCompareSquadBias(t *testing.T) {
 	for i, a := range squad[:2] {
 		writeAthlete(t, two, a.Name, func(int) synth.Athlete { return a }, 12, uint64(i+1))
 	}
-	code, out, _ = runCmd(t, "compare", two, "--methods", "cp2,20min", "--json")
+	code, out, _ = runCmd(t, "compare", two, "--squad", "--methods", "cp2,20min", "--json")
 	var small struct {
 		Pairs []struct {
 			N    int      `json:"n"`
@@ -199,7 +199,7 @@ func TestCompareWithLactate(t *testing.T) {
 	sp, tp := filepath.Join(t.TempDir(), "steps.csv"), filepath.Join(t.TempDir(), "trials.csv")
 	os.WriteFile(sp, []byte(steps.String()), 0o644)
 	os.WriteFile(tp, []byte(trials.String()), 0o644)
-	code, out, errs := runCmd(t, "compare", dir, "--methods", "cp2,mlss,obla4,dmax", "--lactate", sp, "--trials", tp, "--json")
+	code, out, errs := runCmd(t, "compare", dir, "--squad", "--methods", "cp2,mlss,obla4,dmax", "--lactate", sp, "--trials", tp, "--json")
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
@@ -217,7 +217,7 @@ func TestCompareWithLactate(t *testing.T) {
 	if p.A != "cp2" || p.B != "mlss" || p.N != 3 || p.BiasW == nil || math.Abs(*p.BiasW-12.5) > 6 {
 		t.Errorf("cp2 − mlss %+v (bias %v)", p, p.BiasW)
 	}
-	if code, _, _ := runCmd(t, "compare", dir, "--methods", "cp2,lactate9"); code != exitUsage {
+	if code, _, _ := runCmd(t, "compare", dir, "--squad", "--methods", "cp2,lactate9"); code != exitUsage {
 		t.Errorf("unknown method: exit %d", code)
 	}
 }

@@ -19,6 +19,7 @@ func exportCommand() *cli.Command {
 		&cli.StringFlag{Name: "format", Value: "sqlite", Usage: "sqlite (one database file), csv or jsonl (a folder of one file per table)"},
 		&cli.StringFlag{Name: "out", Usage: "the database file (sqlite) or folder (csv, jsonl) to write; never a file that exists unless --force, never inside a folder being read", Required: true},
 		forceFlag(),
+		squadFlag(),
 		&cli.StringFlag{Name: "window", Value: "42d", Usage: "length of the rolling windows of the estimates table"},
 		&cli.StringFlag{Name: "step", Value: "7d", Usage: "distance between the ends of those windows"},
 	)
@@ -79,7 +80,11 @@ func exportAction(c *cli.Context) error {
 	}
 	groups := map[string][]string{"": c.Args().Slice()}
 	order := []string{""}
-	if names, ok := squadOf(c); ok {
+	names, err := squadOf(c)
+	if err != nil {
+		return err
+	}
+	if names != nil {
 		groups, order = map[string][]string{}, names
 		for _, n := range names {
 			groups[n] = []string{filepath.Join(c.Args().First(), n)}

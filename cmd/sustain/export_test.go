@@ -109,7 +109,7 @@ func TestCSVCellsAreNotFormulas(t *testing.T) {
 		os.Rename(filepath.Join(src, "r"), filepath.Join(squad, name))
 	}
 	out := filepath.Join(t.TempDir(), "x")
-	if code, _, errs := runCmd(t, "export", squad, "--format", "csv", "--out", out); code != exitOK {
+	if code, _, errs := runCmd(t, "export", squad, "--squad", "--format", "csv", "--out", out); code != exitOK {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
 	b, _ := os.ReadFile(filepath.Join(out, "rides.csv"))

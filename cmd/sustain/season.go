@@ -19,7 +19,8 @@ func seasonCommand() *cli.Command {
 		&cli.StringFlag{Name: "window", Value: "42d", Usage: "length of each rolling window"},
 		&cli.StringFlag{Name: "step", Value: "7d", Usage: "distance between the ends of consecutive windows"},
 		&cli.StringFlag{Name: "components", Value: estimate.ModelCP2, Usage: "model whose CP and W′ (and Pmax, for morton3 and omni) are followed: cp2, omni or morton3"},
-		&cli.StringFlag{Name: "athlete", Usage: "in a folder of athletes (one subfolder each), show this athlete's season"},
+		squadFlag(),
+		&cli.StringFlag{Name: "athlete", Usage: "with --squad, show this athlete's season"},
 		&cli.StringFlag{Name: "plot", Usage: "write CP, W′ and Pmax over the season to FILE.png or FILE.svg"},
 		forceFlag(),
 	)
@@ -62,13 +63,15 @@ func seasonAction(c *cli.Context) error {
 	if err := checkMassAndPlot(c); err != nil {
 		return err
 	}
-	if c.NArg() == 1 {
-		if names, ok := ingest.Squad(c.Args().First()); ok {
-			return squadAction(c, so, names)
-		}
+	names, err := squadOf(c)
+	if err != nil {
+		return err
+	}
+	if names != nil {
+		return squadAction(c, so, names)
 	}
 	if c.String("athlete") != "" {
-		return usageError{"--athlete needs one folder with a subfolder per athlete"}
+		return usageError{"--athlete goes with --squad (a folder with a subfolder per athlete)"}
 	}
 	res, curves, err := scan(c)
 	if err != nil {

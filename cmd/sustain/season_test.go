@@ -86,7 +86,7 @@ func TestSquadFolder(t *testing.T) {
 	writeAthlete(t, dir, "ana", steady(synth.Athlete{CPW: 240, WPrimeJ: 18000, PmaxW: 900}), 10, 1)
 	writeAthlete(t, dir, "ben", synth.Block(synth.Athlete{CPW: 300, WPrimeJ: 22000, PmaxW: 1200}, 25, 3000), 14, 2)
 	writeAthlete(t, dir, "cai", steady(synth.Athlete{CPW: 200, WPrimeJ: 15000, PmaxW: 800}), 8, 3)
-	code, out, _ := runCmd(t, "season", dir)
+	code, out, _ := runCmd(t, "season", dir, "--squad")
 	if code != exitOK {
 		t.Fatalf("exit %d\n%s", code, out)
 	}
@@ -101,7 +101,7 @@ func TestSquadFolder(t *testing.T) {
 	if lines != 3 {
 		t.Errorf("%d athlete rows:\n%s", lines, out)
 	}
-	code, out, _ = runCmd(t, "season", dir, "--json")
+	code, out, _ = runCmd(t, "season", dir, "--squad", "--json")
 	var js struct {
 		Athletes []struct {
 			Athlete   string `json:"athlete"`
@@ -129,10 +129,38 @@ func TestSquadFolder(t *testing.T) {
 	if len(js.Athletes) != 3 {
 		t.Errorf("%d athletes", len(js.Athletes))
 	}
-	if code, out, _ := runCmd(t, "season", dir, "--athlete", "ben"); code != exitOK || !strings.Contains(out, "CP rose") {
+	if code, out, _ := runCmd(t, "season", dir, "--squad", "--athlete", "ben"); code != exitOK || !strings.Contains(out, "CP rose") {
 		t.Errorf("ben's season: exit %d\n%s", code, out)
 	}
-	if code, _, _ := runCmd(t, "season", dir, "--athlete", "zed"); code != exitUsage {
+	if code, _, _ := runCmd(t, "season", dir, "--squad", "--athlete", "zed"); code != exitUsage {
 		t.Errorf("unknown athlete: exit %d", code)
+	}
+}
+
+// A squad is a squad because the user said so: a rider who keeps rides in
+// folders by season is one rider in season, compare and export alike, and
+// --squad on a folder holding rides of no athlete is refused.
+func TestSquadIsDeclared(t *testing.T) {
+	dir := t.TempDir()
+	a := synth.Athlete{CPW: 260, WPrimeJ: 20000, PmaxW: 1000}
+	writeAthlete(t, dir, "2026-spring", func(int) synth.Athlete { return a }, 8, 1)
+	writeAthlete(t, dir, "2026-summer", func(int) synth.Athlete { return a }, 8, 2)
+	writeAthlete(t, dir, "2026-autumn-extra", func(int) synth.Athlete { return a }, 2, 3)
+	code, out, errs := runCmd(t, "season", dir, "--json", "--no-store")
+	var js seasonJS
+	if err := json.Unmarshal([]byte(out), &js); code != exitOK || err != nil || len(js.Windows) == 0 {
+		t.Fatalf("one rider's folders: exit %d, %v %s", code, err, errs)
+	}
+	if strings.Contains(out, `"athletes"`) {
+		t.Error("a rider's folders were taken for a squad")
+	}
+	code, out, _ = runCmd(t, "season", dir, "--squad", "--no-store")
+	if code != exitOK || !strings.Contains(out, "2026-spring") || !strings.Contains(out, "2026-summer") {
+		t.Errorf("declared a squad: exit %d\n%s", code, out)
+	}
+	loose := filepath.Join(dir, "one.csv")
+	os.WriteFile(loose, []byte("time,power\n0,200\n1,210\n"), 0o644)
+	if code, out, errs := runCmd(t, "compare", dir, "--squad", "--no-store"); code != exitUsage || out != "" || !strings.Contains(errs, "one.csv") {
+		t.Errorf("a squad with a loose ride: exit %d %q %q", code, out, errs)
 	}
 }
