@@ -20,15 +20,7 @@ func plotLactate(path string, as []lactate.Analysis, br *lactate.Bracket) error 
 	p.Title.Text = "Blood lactate against power"
 	p.X.Label.Text = "power (W)"
 	p.Y.Label.Text = "blood lactate (mmol/L)"
-	lo, hi := math.Inf(1), math.Inf(-1)
-	for _, a := range as {
-		lo, hi = math.Min(lo, a.Test.Steps[0].PowerW), math.Max(hi, a.Test.Steps[len(a.Test.Steps)-1].PowerW)
-	}
-	xStep := 20.0
-	if hi-lo > 300 {
-		xStep = 50
-	}
-	p.X.Tick.Marker, p.Y.Tick.Marker = everyTick(xStep), everyTick(1)
+	p.X.Tick.Marker, p.Y.Tick.Marker = niceTicks{}, niceTicks{}
 	p.Y.Min = 0
 	p.Legend.Top, p.Legend.Left = true, true
 	p.Add(&plotter.Grid{Vertical: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)},
@@ -101,16 +93,4 @@ func plotLactate(path string, as []lactate.Analysis, br *lactate.Bracket) error 
 		}
 	}
 	return p.Save(22*vg.Centimeter, 15*vg.Centimeter, path)
-}
-
-// everyTick labels an axis at every multiple of step, exactly.
-type everyTick float64
-
-func (e everyTick) Ticks(lo, hi float64) []plot.Tick {
-	step := float64(e)
-	var ts []plot.Tick
-	for v := math.Ceil(lo/step) * step; v <= hi+1e-9; v += step {
-		ts = append(ts, plot.Tick{Value: v, Label: fmt.Sprintf("%g", v)})
-	}
-	return ts
 }

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"image/color"
 	"math"
+	"strconv"
 	"time"
 
 	"github.com/sustain-cycling/sustain/estimate"
@@ -54,24 +55,81 @@ func curveXYs(ps []powerduration.Point) plotter.XYs {
 	return xy
 }
 
-// relabelled places ticks as gonum does and writes the labelled ones with label.
-type relabelled func(v float64) string
+// niceTicks marks a linear axis at a round step (1, 2, 2.5 or 5 times a
+// power of ten) giving 5 to 10 labelled ticks, each label written with the
+// decimals the step needs, so it reads exactly the value it stands at.
+type niceTicks struct{}
 
-func (label relabelled) Ticks(lo, hi float64) []plot.Tick {
-	ts := plot.DefaultTicks{}.Ticks(lo, hi)
-	for i := range ts {
-		if ts[i].Label != "" {
-			ts[i].Label = label(ts[i].Value)
+func (niceTicks) Ticks(lo, hi float64) []plot.Tick {
+	if !(hi > lo) || math.IsInf(hi-lo, 0) {
+		return []plot.Tick{{Value: lo, Label: strconv.FormatFloat(lo, 'f', -1, 64)}}
+	}
+	step, decimals := niceStep((hi - lo) / 8)
+	var ts []plot.Tick
+	for i := math.Ceil(lo / step); i*step <= hi+step*1e-9; i++ {
+		v, _ := strconv.ParseFloat(strconv.FormatFloat(i*step, 'f', decimals, 64), 64)
+		ts = append(ts, plot.Tick{Value: v, Label: strconv.FormatFloat(v, 'f', decimals, 64)})
+		// a minor tick halfway, unlabelled
+		if m := v + step/2; m <= hi {
+			ts = append(ts, plot.Tick{Value: m})
 		}
 	}
 	return ts
 }
 
-// wholeTicks labels a linear axis in whole numbers.
-var wholeTicks = relabelled(func(v float64) string { return fmt.Sprintf("%.0f", v) })
+// niceStep is the round step nearest above raw (1, 2, 2.5 or 5 times a
+// power of ten) and the decimals its multiples need.
+func niceStep(raw float64) (float64, int) {
+	exp := math.Floor(math.Log10(raw))
+	base := math.Pow(10, exp)
+	for _, m := range []float64{1, 2, 2.5, 5, 10} {
+		if m*base >= raw {
+			step := m * base
+			decimals := int(max(0, -exp))
+			if m == 2.5 {
+				decimals++
+			}
+			if m == 10 {
+				decimals = int(max(0, -exp-1))
+			}
+			return step, decimals
+		}
+	}
+	return 10 * base, int(max(0, -exp-1))
+}
 
-// dateTicks labels a time axis (Unix seconds) with dates.
-var dateTicks = relabelled(func(v float64) string { return time.Unix(int64(v), 0).UTC().Format("Jan 2") })
+// dateTicks marks a time axis (Unix seconds) at whole days, a round number
+// of days or weeks apart, labelled with the date; with the year when the
+// axis spans more than one.
+type dateTicks struct{}
+
+func (dateTicks) Ticks(lo, hi float64) []plot.Tick {
+	const day = 86400.0
+	days := (hi - lo) / day
+	step := 1.0
+	for _, s := range []float64{1, 2, 7, 14, 28, 56, 91, 182, 364} {
+		step = s
+		if days/s <= 8 {
+			break
+		}
+	}
+	first, last := time.Unix(int64(lo), 0).UTC(), time.Unix(int64(hi), 0).UTC()
+	layout := "Jan 2"
+	if first.Year() != last.Year() {
+		layout = "Jan 2 2006"
+	}
+	start := math.Ceil(lo/day) * day
+	if step >= 7 { // weeks start on a Monday
+		for time.Unix(int64(start), 0).UTC().Weekday() != time.Monday {
+			start += day
+		}
+	}
+	var ts []plot.Tick
+	for v := start; v <= hi; v += step * day {
+		ts = append(ts, plot.Tick{Value: v, Label: time.Unix(int64(v), 0).UTC().Format(layout)})
+	}
+	return ts
+}
 
 // newCurvePlot is an empty power-duration plot: log time, watts.
 func newCurvePlot(title string) *plot.Plot {
@@ -82,7 +140,7 @@ func newCurvePlot(title string) *plot.Plot {
 	p.X.Scale = plot.LogScale{}
 	p.X.Tick.Marker = timeTicks{}
 	p.Y.Min = 0
-	p.Y.Tick.Marker = wholeTicks
+	p.Y.Tick.Marker = niceTicks{}
 	p.Legend.Top = true
 	p.Add(&plotter.Grid{Vertical: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)},
 		Horizontal: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)}})
@@ -135,12 +193,14 @@ func plotEstimate(path string, rep estimate.Report, title string) error {
 		if f.Model == estimate.ModelCP2Work || f.Model == estimate.ModelCP2Inverse {
 			continue
 		}
-		// draw each model over the durations it was fitted to (the
-		// 2-parameter model runs to infinity at short durations)
+		// draw each model over the durations it was fitted on, no further:
+		// a fit drawn flat to 2 h would read as power sustainable for 2 h
 		lo, hi := 1.0, maxS
-		if f.Model == estimate.ModelCP2 && len(f.Efforts) > 0 {
-			lo = float64(f.Efforts[0].DurationS) / 2
-			hi = math.Min(maxS, 2*float64(f.Efforts[len(f.Efforts)-1].DurationS))
+		if len(f.Efforts) > 0 {
+			lo, hi = maxS, 1.0
+			for _, e := range f.Efforts {
+				lo, hi = math.Min(lo, float64(e.DurationS)), math.Max(hi, float64(e.DurationS))
+			}
 		}
 		var xy plotter.XYs
 		for _, pt := range modelCurve(f, maxS) {
@@ -153,6 +213,14 @@ func plotEstimate(path string, rep estimate.Report, title string) error {
 			return err
 		}
 		k++
+	}
+	// the headline threshold, across the plot
+	if th := rep.Threshold; th.Estimated() {
+		line := plotter.XYs{{X: 1, Y: th.Watts}, {X: maxS, Y: th.Watts}}
+		label := fmt.Sprintf("threshold %.0f W (%s, %s; range %.0f–%.0f W)", th.Watts, th.Model, th.Confidence, th.LowW, th.HighW)
+		if err := addLine(p, line, label, inkMain, true, 0.8); err != nil {
+			return err
+		}
 	}
 	var used plotter.XYs
 	for _, e := range rep.Efforts {

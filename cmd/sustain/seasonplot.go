@@ -51,8 +51,8 @@ func plotSeason(path string, rep estimate.SeasonReport, title string) error {
 			p.Title.Text = title
 		}
 		p.Y.Label.Text = s.name
-		p.X.Tick.Marker = dateTicks
-		p.Y.Tick.Marker = wholeTicks
+		p.X.Tick.Marker = dateTicks{}
+		p.Y.Tick.Marker = niceTicks{}
 		p.Add(&plotter.Grid{Vertical: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)},
 			Horizontal: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)}})
 		var line plotter.XYs
@@ -155,7 +155,7 @@ func plotAgreement(path string, pairs []estimate.PairAgreement, first string) er
 		p.Title.Text = fmt.Sprintf("%s − %s: bias %+.1f W, limits %+.1f to %+.1f W (n = %d)", pa.A, pa.B, pa.Bias, pa.LowerL, pa.UpperL, pa.N)
 		p.X.Label.Text = fmt.Sprintf("mean of %s and %s (W)", pa.A, pa.B)
 		p.Y.Label.Text = "difference (W)"
-		p.X.Tick.Marker, p.Y.Tick.Marker = wholeTicks, wholeTicks
+		p.X.Tick.Marker, p.Y.Tick.Marker = niceTicks{}, niceTicks{}
 		p.Add(&plotter.Grid{Vertical: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)},
 			Horizontal: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)}})
 		if pa.N < 2 {

@@ -1,0 +1,54 @@
+package main
+
+import (
+	"math"
+	"strconv"
+	"testing"
+	"time"
+)
+
+// Tick labels read exactly the value they stand at (W′ ticks at 17.5 say
+// 17.5, not 18), 5 to 10 labelled ticks an axis, whatever the range.
+func TestTickLabelsAreExact(t *testing.T) {
+	for _, r := range [][2]float64{{14, 18.3}, {3.2, 5.1}, {0, 1}, {18, 25}, {250, 320}, {0, 1250}, {-6.7, 4.3}, {0.001, 0.0042}, {265, 266}, {0, 21000}} {
+		ts := niceTicks{}.Ticks(r[0], r[1])
+		labelled := 0
+		for _, tk := range ts {
+			if tk.Label == "" {
+				continue
+			}
+			labelled++
+			v, err := strconv.ParseFloat(tk.Label, 64)
+			if err != nil || v != tk.Value {
+				t.Errorf("%v: tick at %v labelled %q", r, tk.Value, tk.Label)
+			}
+			if tk.Value < r[0]-1e-9 || tk.Value > r[1]+1e-9 {
+				t.Errorf("%v: tick %v outside the axis", r, tk.Value)
+			}
+		}
+		if labelled < 5 || labelled > 10 {
+			t.Errorf("%v: %d labelled ticks", r, labelled)
+		}
+	}
+}
+
+// Date ticks stand at midnight of the day they name, with the year on an
+// axis that spans more than one.
+func TestDateTicks(t *testing.T) {
+	day := func(s string) float64 { d, _ := time.Parse("2006-01-02", s); return float64(d.Unix()) }
+	for _, c := range []struct {
+		from, to string
+		layout   string
+	}{{"2026-03-02", "2026-06-21", "Jan 2"}, {"2025-10-01", "2027-02-01", "Jan 2 2006"}, {"2026-05-01", "2026-05-09", "Jan 2"}} {
+		ts := dateTicks{}.Ticks(day(c.from), day(c.to))
+		if len(ts) < 3 || len(ts) > 10 {
+			t.Errorf("%v: %d ticks", c, len(ts))
+		}
+		for _, tk := range ts {
+			at := time.Unix(int64(tk.Value), 0).UTC()
+			if math.Mod(tk.Value, 86400) != 0 || at.Format(c.layout) != tk.Label {
+				t.Errorf("%v: tick at %v labelled %q", c, at, tk.Label)
+			}
+		}
+	}
+}
