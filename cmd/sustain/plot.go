@@ -86,8 +86,8 @@ func niceStep(raw float64) (float64, int) {
 		if m*base >= raw {
 			step := m * base
 			decimals := int(max(0, -exp))
-			if m == 2.5 {
-				decimals++
+			if m == 2.5 { // one more decimal, where 2.5 × 10^exp is not whole
+				decimals = int(max(0, 1-exp))
 			}
 			if m == 10 {
 				decimals = int(max(0, -exp-1))

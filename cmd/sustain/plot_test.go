@@ -3,6 +3,7 @@ package main
 import (
 	"math"
 	"strconv"
+	"strings"
 	"testing"
 	"time"
 )
@@ -10,7 +11,7 @@ import (
 // Tick labels read exactly the value they stand at (W′ ticks at 17.5 say
 // 17.5, not 18), 5 to 10 labelled ticks an axis, whatever the range.
 func TestTickLabelsAreExact(t *testing.T) {
-	for _, r := range [][2]float64{{14, 18.3}, {3.2, 5.1}, {0, 1}, {18, 25}, {250, 320}, {0, 1250}, {-6.7, 4.3}, {0.001, 0.0042}, {265, 266}, {0, 21000}} {
+	for _, r := range [][2]float64{{14, 18.3}, {3.2, 5.1}, {0, 1}, {18, 25}, {250, 320}, {0, 1250}, {-6.7, 4.3}, {0.001, 0.0042}, {265, 266}, {0, 21000}, {150, 330}, {0.2, 0.45}} {
 		ts := niceTicks{}.Ticks(r[0], r[1])
 		labelled := 0
 		for _, tk := range ts {
@@ -28,6 +29,16 @@ func TestTickLabelsAreExact(t *testing.T) {
 		}
 		if labelled < 5 || labelled > 10 {
 			t.Errorf("%v: %d labelled ticks", r, labelled)
+		}
+		// no decimals the labels do not need (150.0, 175.0, …)
+		needless := true
+		for _, tk := range ts {
+			if tk.Label != "" && (!strings.Contains(tk.Label, ".") || !strings.HasSuffix(tk.Label, "0")) {
+				needless = false
+			}
+		}
+		if needless {
+			t.Errorf("%v: labels with needless decimals: %v", r, ts)
 		}
 	}
 }
