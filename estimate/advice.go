@@ -74,8 +74,8 @@ func advise(rep Report, opts Options) Advice {
 		a.Message = "No single extra effort would tighten CP noticeably."
 		return a
 	}
-	a.Message = fmt.Sprintf("One more maximal effort of %s would tighten CP the most: its standard error would fall from about %.1f W to %.1f W.",
-		bandText([2]int{a.FromS, a.ToS}), a.CPSEW, a.NewCPSEW)
+	a.Message = fmt.Sprintf("One more maximal effort of %s would tighten CP the most (on the cp2 fit): the standard error of CP, counting each maximal effort as uncertain by at least 1 %% of CP, would fall from about %.1f W to %.1f W (the models table's %.1f W counts the fit's residuals alone).",
+		bandText([2]int{a.FromS, a.ToS}), a.CPSEW, a.NewCPSEW, f.CPSEW)
 	return a
 }
 

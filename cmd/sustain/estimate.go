@@ -115,6 +115,10 @@ func estimateAction(c *cli.Context) error {
 	rep := estimate.Estimate(res.Rides, curves, win, opts)
 	out := estimateJSON(rep, res.Skipped)
 	out.Threshold.perKG(c.Float64("mass"))
+	out.AuditForm = "integral"
+	if opts.Differential {
+		out.AuditForm = "differential"
+	}
 	w := c.App.Writer
 	if c.Bool("json") {
 		if err := writeJSON(w, out); err != nil {
@@ -228,10 +232,17 @@ type estimateOut struct {
 	Warnings  []estimate.Warning   `json:"warnings"`
 	Advice    adviceJSON           `json:"advice"`
 	Audit     []estimate.AuditRide `json:"wbal_audit"`
+	AuditForm string               `json:"wbal_form"` // integral (Skiba et al. 2012) or differential (2015)
 	Efforts   []estimate.Effort    `json:"efforts"`
 }
 
 func ptr(v float64) *float64 { return &v }
+
+// auditFormText names the form of W′ balance the audit replayed.
+var auditFormText = map[string]string{
+	"integral":     "integral form, Skiba et al. 2012",
+	"differential": "differential form, Skiba et al. 2015",
+}
 
 func estimateJSON(rep estimate.Report, skipped []ingest.Skipped) estimateOut {
 	out := estimateOut{Window: rep.Window, Rides: rep.Rides, Skipped: nonNil(skipped), Threshold: thresholdOf(rep.Threshold),
@@ -365,7 +376,7 @@ func renderEstimate(w io.Writer, out estimateOut, massKG float64) {
 	}
 	fmt.Fprintf(w, "  Caution: %s\n", estimate.Caution)
 	if out.Threshold.Watts != nil {
-		fmt.Fprintf(w, "\nW′ balance audit (%s fit)\n", out.Threshold.Model)
+		fmt.Fprintf(w, "\nW′ balance audit (%s fit, %s)\n", out.Threshold.Model, auditFormText[out.AuditForm])
 		if len(out.Audit) == 0 {
 			fmt.Fprintln(w, "  No ride drove W′ balance below −10 % of W′: the fit is consistent with every ride in the window.")
 		}

@@ -183,3 +183,17 @@ func TestModelNamesAgree(t *testing.T) {
 		t.Errorf("--model monod: exit %d", code)
 	}
 }
+
+// The advice says which fit it is about and how its standard error differs
+// from the table's; --differential shows in the audit's heading and JSON.
+func TestAdviceAndAuditSayWhatTheyUse(t *testing.T) {
+	dir := seasonFolder(t, synth.Athlete{CPW: 270, WPrimeJ: 20000, PmaxW: 1000}, 8, true)
+	_, out, _ := runCmd(t, "estimate", dir, "--differential", "--no-store")
+	if !strings.Contains(out, "(on the cp2 fit)") || !strings.Contains(out, "models table's") || !strings.Contains(out, "differential form, Skiba et al. 2015") {
+		t.Errorf("text:\n%s", out)
+	}
+	_, out, _ = runCmd(t, "estimate", dir, "--json", "--no-store")
+	if !strings.Contains(out, `"wbal_form": "integral"`) {
+		t.Errorf("json lacks the audit's form")
+	}
+}
