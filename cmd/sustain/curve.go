@@ -234,6 +234,20 @@ func nonNil(s []ingest.Skipped) []ingest.Skipped {
 	return s
 }
 
+// span is a window in words: "from A to B", "from A on", "up to B", or
+// "on every date".
+func span(w powerduration.Window) string {
+	switch {
+	case w.From != "" && w.To != "":
+		return "from " + w.From + " to " + w.To
+	case w.From != "":
+		return "from " + w.From + " on"
+	case w.To != "":
+		return "up to " + w.To
+	}
+	return "on every date"
+}
+
 func orOpen(d string) string {
 	if d == "" {
 		return "(open)"
@@ -280,7 +294,7 @@ func durationLabel(s int) string {
 }
 
 func renderCurve(w io.Writer, out curveOut, paths []string) {
-	fmt.Fprintf(w, "Best mean power, %d rides from %s to %s\n\n", out.Rides, orOpen(out.Window.From), orOpen(out.Window.To))
+	fmt.Fprintf(w, "Best mean power, %s %s\n\n", count(out.Rides, "ride"), span(out.Window))
 	if len(out.Points) == 0 {
 		return
 	}
@@ -321,7 +335,7 @@ func renderCurve(w io.Writer, out curveOut, paths []string) {
 	}
 	tw.Flush()
 	if out.Compare != nil {
-		fmt.Fprintf(w, "\ncompared: %d rides from %s to %s\n", out.Compare.Rides, orOpen(out.Compare.Window.From), orOpen(out.Compare.Window.To))
+		fmt.Fprintf(w, "\ncompared: %s %s\n", count(out.Compare.Rides, "ride"), span(out.Compare.Window))
 	}
 }
 
@@ -359,5 +373,5 @@ func plotTitle(what string, paths []string, win powerduration.Window, rides int)
 	} else if len(paths) > 1 {
 		name = fmt.Sprintf("%s and %d more", filepath.Base(filepath.Clean(paths[0])), len(paths)-1)
 	}
-	return fmt.Sprintf("%s: %s, %s to %s (%d rides)", what, name, orOpen(win.From), orOpen(win.To), rides)
+	return fmt.Sprintf("%s: %s, %s (%s)", what, name, strings.TrimPrefix(span(win), "from "), count(rides, "ride"))
 }

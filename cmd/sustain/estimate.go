@@ -283,7 +283,7 @@ func estimateJSON(rep estimate.Report, skipped []ingest.Skipped) estimateOut {
 }
 
 func renderEstimate(w io.Writer, out estimateOut, massKG float64) {
-	fmt.Fprintf(w, "Window %s to %s: %d rides\n\n", orOpen(out.Window.From), orOpen(out.Window.To), out.Rides)
+	fmt.Fprintf(w, "Window %s: %s\n\n", strings.TrimPrefix(span(out.Window), "from "), count(out.Rides, "ride"))
 	if th := out.Threshold; th.Watts != nil {
 		fmt.Fprintf(w, "Threshold (critical power): %.0f W, likely between %.0f and %.0f W; confidence %s (%s)\n",
 			*th.Watts, *th.LowW, *th.HighW, th.Confidence, th.Model)

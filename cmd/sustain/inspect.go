@@ -4,7 +4,9 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"math"
 	"reflect"
+	"strconv"
 	"strings"
 	"text/tabwriter"
 	"unicode/utf8"
@@ -45,7 +47,7 @@ func inspectCommand() *cli.Command {
 					fmt.Fprintf(c.App.Writer, "duplicate %s: left out, the same ride as %s (%s)\n", shown(d.File), shown(d.Kept), d.Why)
 				}
 				for _, a := range out.Archives {
-					fmt.Fprintf(c.App.Writer, "archive %s: %d rides, %d skipped, %d duplicates\n", shown(a.Archive), a.Rides, a.Skipped, a.Duplicates)
+					fmt.Fprintf(c.App.Writer, "archive %s: %s, %d skipped, %d duplicates\n", shown(a.Archive), count(a.Rides, "ride"), a.Skipped, a.Duplicates)
 				}
 				if out.Store != nil {
 					fmt.Fprintf(c.App.ErrWriter, "store %s: %d files answered from it, %d decoded\n", out.Store.Path, out.Store.Cached, out.Store.Decoded)
@@ -140,7 +142,7 @@ func inspectJSON(res ingest.Result) inspectOut {
 	for _, r := range res.Rides {
 		out.Quality = append(out.Quality, rideReport{
 			File: r.File, Session: r.Session, Date: r.Date(), Start: r.Start.Format("2006-01-02T15:04:05Z07:00"),
-			Sport: r.Sport, Quality: r.Quality,
+			Sport: r.Sport, Quality: listsNotNull(r.Quality),
 		})
 	}
 	return out
@@ -254,10 +256,14 @@ func renderInspect(w io.Writer, res ingest.Result) {
 		if r.Session > 0 {
 			session = fmt.Sprintf(" #%d", r.Session+1)
 		}
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%.0f%%\t%gs\t%s\t%s\t%d\t%s\t%s\t%s%s\t%s\n",
-			r.Date(), r.Start.Format("15:04"), clock(q.Seconds), 100*q.PowerCoverage, q.RecordingIntervalS,
+		spikes := "-"
+		if q.SpikesRemoved > 0 {
+			spikes = strconv.Itoa(q.SpikesRemoved)
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%gs\t%s\t%s\t%s\t%s\t%s\t%s%s\t%s\n",
+			r.Date(), r.Start.Format("15:04"), clock(q.Seconds), percent(q.PowerCoverage), q.RecordingIntervalS,
 			countSeconds(len(q.Gaps), q.GapSeconds), countSeconds(len(q.Dropouts), q.DropoutSeconds),
-			q.SpikesRemoved, stuckText(q.StuckRuns), r.Sport, shown(r.File), session, strings.Join(notes, "; "))
+			spikes, stuckText(q.StuckRuns), r.Sport, shown(r.File), session, strings.Join(notes, "; "))
 	}
 	tw.Flush()
 	if len(res.Rides) > 0 {
@@ -268,6 +274,38 @@ func renderInspect(w io.Writer, res ingest.Result) {
 	} else {
 		fmt.Fprintf(w, "%s read, %s skipped\n", count(len(res.Rides), "ride"), count(len(res.Skipped), "file"))
 	}
+}
+
+// percent writes a share as a whole percentage, but never rounds a share
+// short of the whole up to 100 % nor one above nothing down to 0 %
+// (99.89 % reads 99.8 %).
+func percent(share float64) string {
+	p := 100 * share
+	switch {
+	case p >= 99.5 && p < 100:
+		return strconv.FormatFloat(math.Floor(p*10)/10, 'f', 1, 64) + "%"
+	case p > 0 && p <= 0.5:
+		return strconv.FormatFloat(math.Ceil(p*10)/10, 'f', 1, 64) + "%"
+	}
+	return fmt.Sprintf("%.0f%%", p)
+}
+
+// listsNotNull is a quality report whose empty lists are empty, not
+// absent (JSON [] rather than null).
+func listsNotNull(q ingest.Quality) ingest.Quality {
+	if q.Gaps == nil {
+		q.Gaps = []ingest.Span{}
+	}
+	if q.Dropouts == nil {
+		q.Dropouts = []ingest.Span{}
+	}
+	if q.SpikeOffsetsS == nil {
+		q.SpikeOffsetsS = []int{}
+	}
+	if q.StuckRuns == nil {
+		q.StuckRuns = []ingest.StuckRun{}
+	}
+	return q
 }
 
 // clock formats seconds as h:mm:ss.

@@ -6,6 +6,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"github.com/sustain-cycling/sustain/powerduration"
 )
 
 // Tick labels read exactly the value they stand at (W′ ticks at 17.5 say
@@ -60,6 +62,24 @@ func TestDateTicks(t *testing.T) {
 			if math.Mod(tk.Value, 86400) != 0 || at.Format(c.layout) != tk.Label {
 				t.Errorf("%v: tick at %v labelled %q", c, at, tk.Label)
 			}
+		}
+	}
+}
+
+// Small text: a share short of the whole never reads 100 %, counts agree
+// with their nouns, an open window reads in words.
+func TestSmallText(t *testing.T) {
+	for share, want := range map[float64]string{1: "100%", 0.9989: "99.8%", 0.995: "99.5%", 0.994: "99%", 0: "0%", 0.001: "0.1%", 0.5: "50%"} {
+		if got := percent(share); got != want {
+			t.Errorf("percent(%v) = %q, want %q", share, got, want)
+		}
+	}
+	if count(1, "ride") != "1 ride" || count(0, "ride") != "0 rides" || count(3, "window") != "3 windows" {
+		t.Error("count")
+	}
+	for w, want := range map[[2]string]string{{"", ""}: "on every date", {"2026-01-01", ""}: "from 2026-01-01 on", {"", "2026-02-01"}: "up to 2026-02-01"} {
+		if got := span(powerduration.Window{From: w[0], To: w[1]}); got != want {
+			t.Errorf("span %v = %q", w, got)
 		}
 	}
 }

@@ -215,8 +215,8 @@ func renderSeason(w io.Writer, out seasonOut, so estimate.SeasonOptions, first, 
 	if so.Components == estimate.ModelCP2 {
 		comps = "CP and W′"
 	}
-	fmt.Fprintf(w, "Season %s to %s: %d rides; windows of %d days every %d days; %s from the %s model\n",
-		orOpen(first), orOpen(last), out.Rides, so.WindowDays, so.StepDays, comps, so.Components)
+	fmt.Fprintf(w, "Season %s to %s: %s; windows of %d days every %d days; %s from the %s model\n",
+		orOpen(first), orOpen(last), count(out.Rides, "ride"), so.WindowDays, so.StepDays, comps, so.Components)
 	fmt.Fprintln(w, "(every ± below is the 95 % half-width: Student t for the fit's degrees of freedom × its standard error)")
 	fmt.Fprintln(w)
 	// a Pmax column only for a components model that has Pmax
@@ -282,14 +282,14 @@ func squadAction(c *cli.Context, so estimate.SeasonOptions, names []string) erro
 			found = found || n == a
 		}
 		if !found {
-			return usageError{fmt.Sprintf("no athlete %q in %s (athletes: %v)", a, dir, names)}
+			return usageError{fmt.Sprintf("no athlete %q in %s (its athletes: %s)", a, dir, strings.Join(names, ", "))}
 		}
 		res, curves, err := scanPaths(c, []string{filepath.Join(dir, a)})
 		if err != nil {
 			return err
 		}
 		rep := estimate.Season(res.Rides, curves, so)
-		return writeSeason(c, res, rep, so, plotTitle("Season of "+a, []string{filepath.Join(dir, a)}, powerduration.Window{From: firstDate(res), To: lastDate(res)}, len(res.Rides)))
+		return writeSeason(c, res, rep, so, plotTitle("Season", []string{filepath.Join(dir, a)}, powerduration.Window{From: firstDate(res), To: lastDate(res)}, len(res.Rides)))
 	}
 	var rows []athleteRow
 	anyRide := false
@@ -317,7 +317,7 @@ func squadAction(c *cli.Context, so estimate.SeasonOptions, names []string) erro
 			return err
 		}
 	} else {
-		fmt.Fprintf(w, "Squad %s: %d athletes; threshold from each athlete's latest %d-day window\n\n", dir, len(rows), so.WindowDays)
+		fmt.Fprintf(w, "Squad %s: %s; threshold from each athlete's latest %d-day window\n\n", dir, count(len(rows), "athlete"), so.WindowDays)
 		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 		fmt.Fprintln(tw, "athlete\tthreshold (W)\tconfidence\tCP change, 6 weeks\trides\tlast ride\t")
 		for _, r := range rows {
