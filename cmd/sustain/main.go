@@ -85,6 +85,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 			protocolCommand(),
 			lactateCommand(),
 			exportCommand(),
+			reportCommand(),
 			demoCommand(),
 		},
 		Action: func(c *cli.Context) error {

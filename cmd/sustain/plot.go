@@ -183,9 +183,19 @@ func plotCurves(path string, out curveOut, title string) error {
 }
 
 func plotEstimate(path string, rep estimate.Report, title string) error {
+	p, err := estimatePlot(rep, title)
+	if err != nil {
+		return err
+	}
+	return p.Save(22*vg.Centimeter, 14*vg.Centimeter, path)
+}
+
+// estimatePlot is the curve, each fit over the durations it was fitted on,
+// the headline threshold and the efforts found.
+func estimatePlot(rep estimate.Report, title string) (*plot.Plot, error) {
 	p := newCurvePlot(title)
 	if err := addLine(p, curveXYs(rep.Curve.Points), "best mean power", inkMain, false, 2); err != nil {
-		return err
+		return nil, err
 	}
 	maxS := math.Max(float64(rep.Curve.Points[len(rep.Curve.Points)-1].DurationS), 60)
 	k := 0
@@ -210,7 +220,7 @@ func plotEstimate(path string, rep estimate.Report, title string) error {
 		}
 		label := fmt.Sprintf("%s: CP %.0f W, W′ %.1f kJ (%s)", f.Model, f.CPW, f.WPrimeJ/1000, f.Confidence)
 		if err := addLine(p, xy, label, inkModel[k%len(inkModel)], true, 1.2); err != nil {
-			return err
+			return nil, err
 		}
 		k++
 	}
@@ -219,7 +229,7 @@ func plotEstimate(path string, rep estimate.Report, title string) error {
 		line := plotter.XYs{{X: 1, Y: th.Watts}, {X: maxS, Y: th.Watts}}
 		label := fmt.Sprintf("threshold %.0f W (%s, %s; range %.0f–%.0f W)", th.Watts, th.Model, th.Confidence, th.LowW, th.HighW)
 		if err := addLine(p, line, label, inkMain, true, 0.8); err != nil {
-			return err
+			return nil, err
 		}
 	}
 	var used plotter.XYs
@@ -231,7 +241,7 @@ func plotEstimate(path string, rep estimate.Report, title string) error {
 	if len(used) > 0 {
 		s, err := plotter.NewScatter(used)
 		if err != nil {
-			return err
+			return nil, err
 		}
 		s.GlyphStyle.Shape = draw.CircleGlyph{}
 		s.GlyphStyle.Radius = vg.Points(3.5)
@@ -245,5 +255,5 @@ func plotEstimate(path string, rep estimate.Report, title string) error {
 	}
 	p.X.Min, p.X.Max = 1, maxS
 	p.Y.Max = 1.15 * top
-	return p.Save(22*vg.Centimeter, 14*vg.Centimeter, path)
+	return p, nil
 }

@@ -3,6 +3,7 @@ package main
 import (
 	"fmt"
 	"image/color"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -31,6 +32,16 @@ func gradeMark(conf string, ink color.Color) draw.GlyphStyle {
 }
 
 func plotSeason(path string, rep estimate.SeasonReport, title string) error {
+	plots, err := seasonPlots(rep, title)
+	if err != nil {
+		return err
+	}
+	return saveTiles(path, plots, 22*vg.Centimeter, 22*vg.Centimeter)
+}
+
+// seasonPlots are the season's panels: CP, W′ and (for a model with it)
+// Pmax against the windows' ends, with 95 % bars and grade marks.
+func seasonPlots(rep estimate.SeasonReport, title string) ([]*plot.Plot, error) {
 	type series struct {
 		name  string
 		ink   color.Color
@@ -83,7 +94,7 @@ func plotSeason(path string, rep estimate.SeasonReport, title string) error {
 		} else {
 			l, err := plotter.NewLine(line)
 			if err != nil {
-				return err
+				return nil, err
 			}
 			l.Color, l.Width = s.ink, vg.Points(1.2)
 			p.Add(l)
@@ -95,7 +106,7 @@ func plotSeason(path string, rep estimate.SeasonReport, title string) error {
 			}
 			sc, err := plotter.NewScatter(m.xy)
 			if err != nil {
-				return err
+				return nil, err
 			}
 			sc.GlyphStyle = gradeMark(g, s.ink)
 			eb := &plotter.YErrorBars{XYs: m.xy, YErrors: m.err, LineStyle: draw.LineStyle{Color: s.ink, Width: vg.Points(0.8)}, CapWidth: vg.Points(4)}
@@ -110,16 +121,28 @@ func plotSeason(path string, rep estimate.SeasonReport, title string) error {
 		}
 		plots = append(plots, p)
 	}
-	return saveTiles(path, plots, 22*vg.Centimeter, 22*vg.Centimeter)
+	return plots, nil
 }
 
 // saveTiles draws plots one above the other into a PNG or SVG file.
 func saveTiles(path string, plots []*plot.Plot, width, height vg.Length) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return err
+	}
+	if err := writeTiles(f, strings.ToLower(filepath.Ext(path)) == ".svg", plots, width, height); err != nil {
+		f.Close()
+		return err
+	}
+	return f.Close()
+}
+
+// writeTiles draws plots one above the other, as SVG or PNG, to w.
+func writeTiles(w io.Writer, svg bool, plots []*plot.Plot, width, height vg.Length) error {
 	var canvas vg.CanvasWriterTo
-	switch strings.ToLower(filepath.Ext(path)) {
-	case ".svg":
-		canvas = vgsvg.New(width, height)
-	default:
+	if svg { // the fonts embedded: the text keeps its size in any browser
+		canvas = vgsvg.NewWith(vgsvg.UseWH(width, height), vgsvg.EmbedFonts(true))
+	} else {
 		canvas = vgimg.PngCanvas{Canvas: vgimg.New(width, height)}
 	}
 	grid := make([][]*plot.Plot, len(plots))
@@ -131,15 +154,8 @@ func saveTiles(path string, plots []*plot.Plot, width, height vg.Length) error {
 	for i := range grid {
 		grid[i][0].Draw(canvases[i][0])
 	}
-	f, err := os.Create(path)
-	if err != nil {
-		return err
-	}
-	if _, err := canvas.WriteTo(f); err != nil {
-		f.Close()
-		return err
-	}
-	return f.Close()
+	_, err := canvas.WriteTo(w)
+	return err
 }
 
 // plotAgreement draws a Bland–Altman plot for each pair with the first
