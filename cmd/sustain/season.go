@@ -106,7 +106,9 @@ func writeSeason(c *cli.Context, res ingest.Result, rep estimate.SeasonReport, s
 		renderSeason(w, out, so, firstDate(res), lastDate(res))
 		reportSkipped(c.App.ErrWriter, out.Skipped)
 	}
-	if p := c.String("plot"); p != "" && len(rep.Windows) > 0 {
+	if p := c.String("plot"); p != "" && !anyEstimated(rep) {
+		fmt.Fprintf(c.App.ErrWriter, "no plot written to %s: no window had enough data for an estimate\n", p)
+	} else if p != "" {
 		if err := plotSeason(p, rep, title); err != nil {
 			return fmt.Errorf("plot %s: %w", p, err)
 		}
@@ -115,6 +117,16 @@ func writeSeason(c *cli.Context, res ingest.Result, rep estimate.SeasonReport, s
 		}
 	}
 	return nothingRead(res)
+}
+
+// anyEstimated reports whether any window of the season was estimated.
+func anyEstimated(rep estimate.SeasonReport) bool {
+	for _, w := range rep.Windows {
+		if w.Estimated {
+			return true
+		}
+	}
+	return false
 }
 
 type seasonWindowJSON struct {
@@ -290,6 +302,9 @@ func squadAction(c *cli.Context, so estimate.SeasonOptions, names []string) erro
 		}
 		rep := estimate.Season(res.Rides, curves, so)
 		return writeSeason(c, res, rep, so, plotTitle("Season", []string{filepath.Join(dir, a)}, powerduration.Window{From: firstDate(res), To: lastDate(res)}, len(res.Rides)))
+	}
+	if c.String("plot") != "" {
+		return usageError{"--plot draws one athlete's season: add --athlete NAME"}
 	}
 	var rows []athleteRow
 	anyRide := false

@@ -164,3 +164,21 @@ func TestSquadIsDeclared(t *testing.T) {
 		t.Errorf("a squad with a loose ride: exit %d %q %q", code, out, errs)
 	}
 }
+
+// No empty plots: a season with no window estimated writes no plot and
+// says so; a squad's --plot needs the athlete it is of.
+func TestNoDegeneratePlots(t *testing.T) {
+	dir := seasonFolder(t, synth.Athlete{CPW: 270, WPrimeJ: 20000, PmaxW: 1000}, 8, false) // endurance only
+	plot := filepath.Join(t.TempDir(), "season.png")
+	code, _, errs := runCmd(t, "season", dir, "--plot", plot, "--no-store")
+	if _, err := os.Stat(plot); code != exitOK || err == nil || !strings.Contains(errs, "no plot written") {
+		t.Errorf("endurance-only season: exit %d, plot written %v, stderr %q", code, err == nil, errs)
+	}
+	squad := t.TempDir()
+	a := synth.Athlete{CPW: 260, WPrimeJ: 20000, PmaxW: 1000}
+	writeAthlete(t, squad, "ana", func(int) synth.Athlete { return a }, 4, 1)
+	writeAthlete(t, squad, "ben", func(int) synth.Athlete { return a }, 4, 2)
+	if code, out, _ := runCmd(t, "season", squad, "--squad", "--plot", plot, "--no-store"); code != exitUsage || out != "" {
+		t.Errorf("squad --plot without --athlete: exit %d", code)
+	}
+}

@@ -66,6 +66,7 @@ func seasonPlots(rep estimate.SeasonReport, title string) ([]*plot.Plot, error) 
 		p.Y.Tick.Marker = niceTicks{}
 		p.Add(&plotter.Grid{Vertical: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)},
 			Horizontal: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)}})
+		var lines []plotter.XYs // broken where a window was not estimated
 		var line plotter.XYs
 		type mark struct {
 			xy  plotter.XYs
@@ -75,6 +76,9 @@ func seasonPlots(rep estimate.SeasonReport, title string) ([]*plot.Plot, error) 
 		for _, w := range rep.Windows {
 			v, se := s.value(w)
 			if !w.Estimated || v <= 0 {
+				if len(line) > 0 {
+					lines, line = append(lines, line), nil
+				}
 				continue
 			}
 			end, _ := time.Parse("2006-01-02", w.To)
@@ -89,10 +93,14 @@ func seasonPlots(rep estimate.SeasonReport, title string) ([]*plot.Plot, error) 
 			h := w.HalfW(se) // the season's one "±": the 95 % half-width
 			m.err = append(m.err, struct{ Low, High float64 }{h, h})
 		}
-		if len(line) == 0 {
+		if len(line) > 0 {
+			lines = append(lines, line)
+		}
+		if len(lines) == 0 {
 			p.Title.Text += fmt.Sprintf("   (%s: no window with enough data)", strings.TrimSuffix(s.name, " (W)"))
-		} else {
-			l, err := plotter.NewLine(line)
+		}
+		for _, seg := range lines {
+			l, err := plotter.NewLine(seg)
 			if err != nil {
 				return nil, err
 			}
