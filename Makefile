@@ -7,14 +7,18 @@ build:
 	$(GO) build -o bin/sustain ./cmd/sustain
 
 # vet, then every test: with the race detector for the packages that run
-# goroutines (scans, curves on a pool, the store, the command), without it
-# for the single-threaded numerics (estimate, the accuracy ground truth),
-# where it only slows the runs.
-RACE_PKGS = ./ingest/... ./powerduration/... ./internal/store/... ./cmd/...
-PLAIN_PKGS = ./estimate/... ./lactate/... ./internal/accuracy/... ./internal/synth/... ./internal/export/...
+# goroutines (scans, curves on a pool, the store), and for the command's
+# tests that drive them end to end at once (two runs on one store, a
+# hostile folder, windows first, many skipped files); the command's other
+# tests and the single-threaded numerics (estimate, the accuracy ground
+# truth) without it, where it only slows the runs (every test runs).
+RACE_PKGS = ./ingest/... ./powerduration/... ./internal/store/...
+CMD_RACE = ^(TestStore.*|TestHostileFolder|TestExportArchiveOnce|TestWindowFirst|TestMessagesOnStderr)$$
+PLAIN_PKGS = ./cmd/... ./estimate/... ./lactate/... ./internal/accuracy/... ./internal/synth/... ./internal/export/...
 test:
 	$(GO) vet ./...
 	$(GO) test -race -count=1 -timeout 30m $(RACE_PKGS)
+	$(GO) test -race -count=1 -timeout 30m -run '$(CMD_RACE)' ./cmd/...
 	$(GO) test -count=1 -timeout 30m $(PLAIN_PKGS)
 
 # every benchmark, then the ratios the targets are stated in
