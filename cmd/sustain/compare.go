@@ -67,15 +67,15 @@ func compareAction(c *cli.Context) error {
 	var subjects []estimate.Subject
 	skipped := labSkipped
 	kind := "windows"
-	names, err := squadOf(c)
+	members, err := squadOf(c)
 	if err != nil {
 		return err
 	}
-	if names != nil {
+	if members != nil {
 		kind = "athletes"
-		dir := c.Args().First()
-		for _, n := range names {
-			res, curves, err := scanPaths(c, []string{filepath.Join(dir, n)})
+		for _, m := range members {
+			n := m.Name
+			res, curves, err := scanPaths(c, []string{m.Folder})
 			if err != nil {
 				return err
 			}
@@ -132,20 +132,38 @@ func squadFlag() cli.Flag {
 	return &cli.BoolFlag{Name: "squad", Usage: "the folder named holds one subfolder per athlete (without it, a folder is one rider's, however it is arranged)"}
 }
 
-// squadOf is the athletes of the folder declared a squad (--squad), or nil
-// when none was declared.
-func squadOf(c *cli.Context) ([]string, error) {
-	if !c.Bool("squad") {
+// member is an athlete of a squad and the folder of their rides.
+type member struct{ Name, Folder string }
+
+// squadOf is the squad declared: the athletes of an athletes file
+// (--athletes), or the subfolders of the one folder named with --squad;
+// nil when none was declared.
+func squadOf(c *cli.Context) ([]member, error) {
+	if !c.Bool("squad") && !(c.String("athletes") != "" && c.NArg() == 0) {
 		return nil, nil
 	}
+	if f, ok, err := athletesFile(c); err != nil || ok {
+		if err != nil {
+			return nil, err
+		}
+		var ms []member
+		for _, a := range f.Athletes {
+			ms = append(ms, member{a.Name, a.Folder})
+		}
+		return ms, nil
+	}
 	if c.NArg() != 1 {
-		return nil, usageError{"--squad takes one folder, with a subfolder per athlete"}
+		return nil, usageError{"--squad takes one folder, with a subfolder per athlete (or --athletes FILE)"}
 	}
 	names, err := ingest.Athletes(c.Args().First())
 	if err != nil {
 		return nil, usageError{err.Error()}
 	}
-	return names, nil
+	var ms []member
+	for _, n := range names {
+		ms = append(ms, member{n, filepath.Join(c.Args().First(), n)})
+	}
+	return ms, nil
 }
 
 type pairJSON struct {

@@ -114,7 +114,11 @@ func estimateAction(c *cli.Context) error {
 	}
 	rep := estimate.Estimate(res.Rides, curves, win, opts)
 	out := estimateJSON(rep, res.Skipped)
-	out.Threshold.perKG(c.Float64("mass"))
+	massKG, err := massOn(c, c.Args().Slice(), win.To)
+	if err != nil {
+		return err
+	}
+	out.Threshold.perKG(massKG)
 	out.AuditForm = "integral"
 	if opts.Differential {
 		out.AuditForm = "differential"
@@ -125,7 +129,7 @@ func estimateAction(c *cli.Context) error {
 			return err
 		}
 	} else {
-		renderEstimate(w, out, c.Float64("mass"))
+		renderEstimate(w, out, massKG)
 		reportSkipped(c.App.ErrWriter, out.Skipped)
 	}
 	if p := c.String("plot"); p != "" && len(rep.Curve.Points) > 0 {

@@ -80,14 +80,14 @@ func exportAction(c *cli.Context) error {
 	}
 	groups := map[string][]string{"": c.Args().Slice()}
 	order := []string{""}
-	names, err := squadOf(c)
+	members, err := squadOf(c)
 	if err != nil {
 		return err
 	}
-	if names != nil {
-		groups, order = map[string][]string{}, names
-		for _, n := range names {
-			groups[n] = []string{filepath.Join(c.Args().First(), n)}
+	if members != nil {
+		groups, order = map[string][]string{}, nil
+		for _, m := range members {
+			groups[m.Name], order = []string{m.Folder}, append(order, m.Name)
 		}
 	}
 	rides := export.Table{Name: "rides", Columns: ridesColumns}

@@ -26,6 +26,7 @@ func ingestFlags() []cli.Flag {
 		&cli.StringFlag{Name: "store", Usage: "the store of decoded rides and curves (default: sustain/rides.db in your cache folder)"},
 		&cli.BoolFlag{Name: "no-store", Usage: "decode every file, neither reading nor writing the store"},
 		&cli.BoolFlag{Name: "keep-duplicates", Usage: "keep every copy of a ride recorded twice (by default the same ride from two files counts once)"},
+		&cli.StringFlag{Name: "athletes", Usage: "athletes file (CSV: athlete, folder, date, mass_kg): W/kg with each athlete's mass in force on the day; with --squad, or alone in season, compare and export, the squad"},
 	}
 }
 

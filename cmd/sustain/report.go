@@ -100,9 +100,16 @@ func reportAction(c *cli.Context) error {
 	}
 	rep := estimate.Estimate(res.Rides, curves, win, opts)
 	season := estimate.Season(res.Rides, curves, estimate.SeasonOptions{Options: opts})
+	massKG, err := massOn(c, c.Args().Slice(), win.To)
+	if err != nil {
+		return err
+	}
 	page := reportPage{Name: c.String("name"), Made: time.Now().Format("2006-01-02"), Version: version(),
 		Estimate: estimateJSON(rep, res.Skipped), Season: seasonJSON(season, res.Skipped, len(res.Rides)),
-		MassKG: c.Float64("mass"), Caution: estimate.Caution}
+		MassKG: massKG, Caution: estimate.Caution}
+	if err := page.Season.perKG(c, c.Args().Slice()); err != nil {
+		return err
+	}
 	page.Estimate.Threshold.perKG(page.MassKG)
 	page.Estimate.AuditForm = "integral"
 	if opts.Differential {

@@ -3,7 +3,6 @@ package main
 import (
 	"fmt"
 	"io"
-	"path/filepath"
 	"strings"
 	"text/tabwriter"
 
@@ -63,12 +62,12 @@ func seasonAction(c *cli.Context) error {
 	if err := checkMassAndPlot(c); err != nil {
 		return err
 	}
-	names, err := squadOf(c)
+	members, err := squadOf(c)
 	if err != nil {
 		return err
 	}
-	if names != nil {
-		return squadAction(c, so, names)
+	if members != nil {
+		return squadAction(c, so, members)
 	}
 	if c.String("athlete") != "" {
 		return usageError{"--athlete goes with --squad (a folder with a subfolder per athlete)"}
@@ -78,7 +77,7 @@ func seasonAction(c *cli.Context) error {
 		return err
 	}
 	rep := estimate.Season(res.Rides, curves, so)
-	return writeSeason(c, res, rep, so, plotTitle("Season", c.Args().Slice(), powerduration.Window{From: firstDate(res), To: lastDate(res)}, len(res.Rides)))
+	return writeSeason(c, res, rep, so, plotTitle("Season", c.Args().Slice(), powerduration.Window{From: firstDate(res), To: lastDate(res)}, len(res.Rides)), c.Args().Slice())
 }
 
 func firstDate(res ingest.Result) string {
@@ -95,8 +94,11 @@ func lastDate(res ingest.Result) string {
 	return res.Rides[len(res.Rides)-1].Date()
 }
 
-func writeSeason(c *cli.Context, res ingest.Result, rep estimate.SeasonReport, so estimate.SeasonOptions, title string) error {
+func writeSeason(c *cli.Context, res ingest.Result, rep estimate.SeasonReport, so estimate.SeasonOptions, title string, paths []string) error {
 	out := seasonJSON(rep, res.Skipped, len(res.Rides))
+	if err := out.perKG(c, paths); err != nil {
+		return err
+	}
 	w := c.App.Writer
 	if c.Bool("json") {
 		if err := writeJSON(w, out); err != nil {
@@ -150,6 +152,31 @@ type seasonWindowJSON struct {
 	HighW      *float64 `json:"threshold_high_w"`
 	Headline   string   `json:"threshold_model,omitempty"`
 	Confidence *string  `json:"confidence"`
+	// with a mass (--mass, or the athletes file's in force at the
+	// window's end): per kilogram
+	MassKG          *float64 `json:"mass_kg,omitempty"`
+	CPWPerKG        *float64 `json:"cp_w_per_kg,omitempty"`
+	ThresholdWPerKG *float64 `json:"threshold_w_per_kg,omitempty"`
+}
+
+// perKG adds to each estimated window its CP and threshold per kilogram,
+// with the mass in force at the window's end.
+func (out *seasonOut) perKG(c *cli.Context, paths []string) error {
+	for i := range out.Windows {
+		w := &out.Windows[i]
+		if !w.Estimated {
+			continue
+		}
+		kg, err := massOn(c, paths, w.To)
+		if err != nil || kg <= 0 {
+			return err
+		}
+		w.MassKG, w.CPWPerKG = ptr(kg), ptr(*w.CPW/kg)
+		if w.ThresholdW != nil {
+			w.ThresholdWPerKG = ptr(*w.ThresholdW / kg)
+		}
+	}
+	return nil
 }
 
 // changeJSON: CP and Pmax changes are in watts (the _w keys), W′ changes
@@ -247,6 +274,9 @@ func renderSeason(w io.Writer, out seasonOut, so estimate.SeasonOptions, first, 
 		th := "not estimated"
 		if x.ThresholdW != nil {
 			th = fmt.Sprintf("%.0f (%.0f–%.0f, %s)", *x.ThresholdW, *x.LowW, *x.HighW, x.Headline)
+			if x.ThresholdWPerKG != nil {
+				th += fmt.Sprintf(", %.2f W/kg at %.1f kg", *x.ThresholdWPerKG, *x.MassKG)
+			}
 		}
 		pmax := ""
 		if withPmax {
@@ -283,33 +313,37 @@ type athleteRow struct {
 	Window      powerduration.Window `json:"window"`
 }
 
-func squadAction(c *cli.Context, so estimate.SeasonOptions, names []string) error {
+func squadAction(c *cli.Context, so estimate.SeasonOptions, members []member) error {
 	dir := c.Args().First()
+	if dir == "" {
+		dir = c.String("athletes")
+	}
 	if _, err := ingestOptions(c); err != nil {
 		return err
 	}
 	if a := c.String("athlete"); a != "" {
-		found := false
-		for _, n := range names {
-			found = found || n == a
+		var names []string
+		for _, m := range members {
+			if m.Name == a {
+				res, curves, err := scanPaths(c, []string{m.Folder})
+				if err != nil {
+					return err
+				}
+				rep := estimate.Season(res.Rides, curves, so)
+				return writeSeason(c, res, rep, so, plotTitle("Season", []string{m.Folder}, powerduration.Window{From: firstDate(res), To: lastDate(res)}, len(res.Rides)), []string{m.Folder})
+			}
+			names = append(names, m.Name)
 		}
-		if !found {
-			return usageError{fmt.Sprintf("no athlete %q in %s (its athletes: %s)", a, dir, strings.Join(names, ", "))}
-		}
-		res, curves, err := scanPaths(c, []string{filepath.Join(dir, a)})
-		if err != nil {
-			return err
-		}
-		rep := estimate.Season(res.Rides, curves, so)
-		return writeSeason(c, res, rep, so, plotTitle("Season", []string{filepath.Join(dir, a)}, powerduration.Window{From: firstDate(res), To: lastDate(res)}, len(res.Rides)))
+		return usageError{fmt.Sprintf("no athlete %q in %s (its athletes: %s)", a, dir, strings.Join(names, ", "))}
 	}
 	if c.String("plot") != "" {
 		return usageError{"--plot draws one athlete's season: add --athlete NAME"}
 	}
 	var rows []athleteRow
 	anyRide := false
-	for _, n := range names {
-		res, curves, err := scanPaths(c, []string{filepath.Join(dir, n)})
+	for _, m := range members {
+		n := m.Name
+		res, curves, err := scanPaths(c, []string{m.Folder})
 		if err != nil {
 			return err
 		}
@@ -319,6 +353,11 @@ func squadAction(c *cli.Context, so estimate.SeasonOptions, names []string) erro
 			rep := estimate.Season(res.Rides, curves, so)
 			last := rep.Windows[len(rep.Windows)-1]
 			th := thresholdOf(last.Threshold)
+			kg, err := massOn(c, []string{m.Folder}, last.To)
+			if err != nil {
+				return err
+			}
+			th.perKG(kg)
 			row.Threshold, row.Window = &th, last.Window
 			if d, sig, ok := estimate.RecentChange(rep, 42); ok {
 				row.Change6wW, row.Significant = ptr(d), sig
@@ -339,6 +378,9 @@ func squadAction(c *cli.Context, so estimate.SeasonOptions, names []string) erro
 			th, conf, ch := "-", "-", "-"
 			if t := r.Threshold; t != nil && t.Watts != nil {
 				th = fmt.Sprintf("%.0f (%.0f–%.0f, %s)", *t.Watts, *t.LowW, *t.HighW, t.Model)
+				if t.WattsPerKG != nil {
+					th += fmt.Sprintf(", %.2f W/kg", *t.WattsPerKG)
+				}
 				conf = t.Confidence
 			} else if t != nil {
 				th = "not estimated"

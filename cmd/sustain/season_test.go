@@ -182,3 +182,65 @@ func TestNoDegeneratePlots(t *testing.T) {
 		t.Errorf("squad --plot without --athlete: exit %d", code)
 	}
 }
+
+// An athletes file declares the squad and each athlete's mass by date:
+// every window carries W/kg with the mass in force at its end, the
+// estimate with the mass at its window's end, and --mass overrides it for
+// one run.
+func TestAthletesFileMassByDate(t *testing.T) {
+	dir := t.TempDir()
+	a := synth.Athlete{CPW: 260, WPrimeJ: 20000, PmaxW: 1000}
+	writeAthlete(t, dir, "ana", func(int) synth.Athlete { return a }, 12, 1)
+	writeAthlete(t, dir, "ben", func(int) synth.Athlete { return a }, 6, 2)
+	file := filepath.Join(dir, "athletes.csv")
+	os.WriteFile(file, []byte("athlete,folder,date,mass_kg\nana,ana,2026-01-01,64\nana,,2026-04-15,62\nben,ben,,75\n"), 0o644)
+
+	code, out, errs := runCmd(t, "season", filepath.Join(dir, "ana"), "--athletes", file, "--json", "--no-store")
+	var js struct {
+		Windows []struct {
+			To        string   `json:"to"`
+			Estimated bool     `json:"estimated"`
+			CPW       *float64 `json:"cp_w"`
+			MassKG    *float64 `json:"mass_kg"`
+			CPWPerKG  *float64 `json:"cp_w_per_kg"`
+		} `json:"windows"`
+	}
+	if err := json.Unmarshal([]byte(out), &js); code != exitOK || err != nil {
+		t.Fatalf("exit %d, %v %s", code, err, errs)
+	}
+	checked := 0
+	for _, w := range js.Windows {
+		if !w.Estimated {
+			continue
+		}
+		want := 64.0
+		if w.To >= "2026-04-15" {
+			want = 62
+		}
+		if w.MassKG == nil || *w.MassKG != want || math.Abs(*w.CPWPerKG-*w.CPW/want) > 1e-12 {
+			t.Errorf("window to %s: mass %v, W/kg %v", w.To, w.MassKG, w.CPWPerKG)
+		}
+		checked++
+	}
+	if checked < 3 {
+		t.Fatalf("%d estimated windows", checked)
+	}
+	// the estimate: the mass at its window's end; --mass overrides
+	_, out, _ = runCmd(t, "estimate", filepath.Join(dir, "ana"), "--athletes", file, "--json", "--no-store")
+	if !strings.Contains(out, `"mass_kg": 62`) {
+		t.Errorf("estimate without the mass at its window's end:\n%.600s", out)
+	}
+	_, out, _ = runCmd(t, "estimate", filepath.Join(dir, "ana"), "--athletes", file, "--mass", "70", "--json", "--no-store")
+	if !strings.Contains(out, `"mass_kg": 70`) {
+		t.Error("--mass did not override the athletes file")
+	}
+	// alone, the file is the squad
+	code, out, _ = runCmd(t, "season", "--athletes", file, "--no-store")
+	if code != exitOK || !strings.Contains(out, "ana ") || !strings.Contains(out, "ben ") || !strings.Contains(out, "W/kg") {
+		t.Errorf("squad from the file: exit %d\n%s", code, out)
+	}
+	os.WriteFile(file, []byte("athlete,folder,mass_kg\nana,ana,900\n"), 0o644)
+	if code, out, errs := runCmd(t, "season", "--athletes", file, "--no-store"); code != exitUsage || out != "" || !strings.Contains(errs, "line 2") {
+		t.Errorf("a bad athletes file: exit %d %q", code, errs)
+	}
+}
