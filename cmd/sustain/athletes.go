@@ -41,3 +41,15 @@ func massOn(c *cli.Context, paths []string, date string) (float64, error) {
 	kg, _ := a.MassOn(date)
 	return kg, nil
 }
+
+// massFunc is massOn as a function of the date (nil when no mass is
+// known: neither --mass nor --athletes).
+func massFunc(c *cli.Context, paths []string) func(date string) float64 {
+	if !c.IsSet("mass") && c.String("athletes") == "" {
+		return nil
+	}
+	return func(date string) float64 {
+		kg, _ := massOn(c, paths, date)
+		return kg
+	}
+}

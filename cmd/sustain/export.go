@@ -40,7 +40,8 @@ var (
 		spikes_removed INTEGER, stuck_runs INTEGER, stuck_s INTEGER, truncated INTEGER, salvaged INTEGER`)
 	pointColumns    = export.Cols(`athlete TEXT, file TEXT, session INTEGER, date TEXT, duration_s INTEGER, watts REAL, offset_s INTEGER`)
 	estimateColumns = export.Cols(`athlete TEXT, window_from TEXT, window_to TEXT, rides INTEGER, model TEXT, cp_w REAL, cp_se_w REAL,
-		w_prime_j REAL, w_prime_se_j REAL, pmax_w REAL, pmax_se_w REAL, rmse_w REAL, confidence TEXT, headline INTEGER, reasons TEXT`)
+		w_prime_j REAL, w_prime_se_j REAL, pmax_w REAL, pmax_se_w REAL, rmse_w REAL, confidence TEXT, headline INTEGER, reasons TEXT,
+		mass_kg REAL, cp_w_per_kg REAL`)
 )
 
 func exportAction(c *cli.Context) error {
@@ -119,10 +120,19 @@ func exportAction(c *cli.Context) error {
 		}
 		for _, w := range estimate.SeasonWindows(res.Rides, windowDays, stepDays) {
 			rep := estimate.Estimate(res.Rides, curves, w, eo)
+			kg, err := massOn(c, groups[athlete], w.To) // the mass in force at the window's end
+			if err != nil {
+				return err
+			}
 			for _, f := range rep.Models {
 				headline := rep.Threshold.Estimated() && rep.Threshold.Model == f.Model
+				perKG := math.NaN()
+				if kg > 0 {
+					perKG = f.CPW / kg
+				}
 				ests.Rows = append(ests.Rows, []any{athlete, w.From, w.To, rep.Rides, f.Model, f.CPW, f.CPSEW, f.WPrimeJ,
-					f.WPrimeSEJ, orNaN(f.PmaxW), orNaN(f.PmaxSEW), f.RMSEW, f.Confidence, headline, strings.Join(f.Reasons, "; ")})
+					f.WPrimeSEJ, orNaN(f.PmaxW), orNaN(f.PmaxSEW), f.RMSEW, f.Confidence, headline, strings.Join(f.Reasons, "; "),
+					orNaN(kg), perKG})
 			}
 		}
 	}

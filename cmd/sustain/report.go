@@ -144,7 +144,7 @@ func reportAction(c *cli.Context) error {
 		page.CurveSVG = template.HTML(svg.String()) // drawn by the plot library from numbers and fixed labels
 	}
 	if len(season.Windows) > 0 {
-		plots, err := seasonPlots(season, "Season: CP, W′ (and Pmax) by 42-day window")
+		plots, err := seasonPlots(season, "Season: CP, W′ (and Pmax) by 42-day window", massFunc(c, c.Args().Slice()))
 		if err != nil {
 			return err
 		}

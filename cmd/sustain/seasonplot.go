@@ -31,8 +31,8 @@ func gradeMark(conf string, ink color.Color) draw.GlyphStyle {
 	return g
 }
 
-func plotSeason(path string, rep estimate.SeasonReport, title string) error {
-	plots, err := seasonPlots(rep, title)
+func plotSeason(path string, rep estimate.SeasonReport, title string, mass func(date string) float64) error {
+	plots, err := seasonPlots(rep, title, mass)
 	if err != nil {
 		return err
 	}
@@ -40,8 +40,9 @@ func plotSeason(path string, rep estimate.SeasonReport, title string) error {
 }
 
 // seasonPlots are the season's panels: CP, W′ and (for a model with it)
-// Pmax against the windows' ends, with 95 % bars and grade marks.
-func seasonPlots(rep estimate.SeasonReport, title string) ([]*plot.Plot, error) {
+// Pmax against the windows' ends, with 95 % bars and grade marks; with a
+// mass by date (mass, nil for none), CP per kilogram too.
+func seasonPlots(rep estimate.SeasonReport, title string, mass func(date string) float64) ([]*plot.Plot, error) {
 	type series struct {
 		name  string
 		ink   color.Color
@@ -54,6 +55,15 @@ func seasonPlots(rep estimate.SeasonReport, title string) ([]*plot.Plot, error) 
 	// Pmax only where the components model has it (cp2 has none)
 	if len(rep.Windows) > 0 && rep.Windows[0].Model != estimate.ModelCP2 {
 		all = append(all, series{"Pmax (W)", inkModel[1], func(w estimate.SeasonWindow) (float64, float64) { return w.PmaxW, w.PmaxSEW }})
+	}
+	if mass != nil && len(rep.Windows) > 0 && mass(rep.Windows[len(rep.Windows)-1].To) > 0 {
+		all = append(all, series{"CP (W/kg)", inkModel[0], func(w estimate.SeasonWindow) (float64, float64) {
+			kg := mass(w.To) // the mass in force at the window's end
+			if kg <= 0 {
+				return 0, 0
+			}
+			return w.CPW / kg, w.CPSEW / kg
+		}})
 	}
 	var plots []*plot.Plot
 	for k, s := range all {
