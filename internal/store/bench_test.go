@@ -38,27 +38,14 @@ func benchFolder(b *testing.B, n int) string {
 	}
 	a := synth.Athlete{CPW: 270, WPrimeJ: 20000, PmaxW: 1000}
 	day := time.Date(2026, 1, 1, 8, 0, 0, 0, time.UTC)
-	var wg sync.WaitGroup
-	var next atomic.Int64
-	for range runtime.NumCPU() {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := int(next.Add(1)) - 1; i < n; i = int(next.Add(1)) - 1 {
-				tr := synth.FieldRide(a, day.Add(time.Duration(i)*20*time.Hour), 90, []int{60 * (1 + i%12)}, uint64(i))
-				var buf bytes.Buffer
-				if err := synth.WriteFIT(&buf, tr); err != nil {
-					b.Error(err)
-					return
-				}
-				if err := os.WriteFile(filepath.Join(dir, fmt.Sprintf("ride-%04d.fit", i)), buf.Bytes(), 0o644); err != nil {
-					b.Error(err)
-					return
-				}
-			}
-		}()
-	}
-	wg.Wait()
+	onEveryCPU(n, func(i int) error {
+		tr := synth.FieldRide(a, day.Add(time.Duration(i)*20*time.Hour), 90, []int{60 * (1 + i%12)}, uint64(i))
+		var buf bytes.Buffer
+		if err := synth.WriteFIT(&buf, tr); err != nil {
+			return err
+		}
+		return os.WriteFile(filepath.Join(dir, fmt.Sprintf("ride-%04d.fit", i)), buf.Bytes(), 0o644)
+	}, b)
 	benchDirs[n] = dir
 	return dir
 }
@@ -78,29 +65,35 @@ func BenchmarkBareFITDecode(b *testing.B) {
 	dir := benchFolder(b, 100)
 	files, _ := ingest.ListFiles([]string{dir})
 	for b.Loop() {
-		var wg sync.WaitGroup
-		var next atomic.Int64
-		for range runtime.NumCPU() {
-			wg.Add(1)
-			go func() {
-				defer wg.Done()
-				for i := int(next.Add(1)) - 1; i < len(files); i = int(next.Add(1)) - 1 {
-					f, err := os.Open(files[i])
-					if err != nil {
-						b.Error(err)
-						return
-					}
-					_, err = fit.Decode(bufio.NewReaderSize(f, 64<<10))
-					f.Close()
-					if err != nil {
-						b.Error(err)
-						return
-					}
-				}
-			}()
-		}
-		wg.Wait()
+		onEveryCPU(len(files), func(i int) error {
+			f, err := os.Open(files[i])
+			if err != nil {
+				return err
+			}
+			defer f.Close()
+			_, err = fit.Decode(bufio.NewReaderSize(f, 64<<10))
+			return err
+		}, b)
 	}
+}
+
+// onEveryCPU runs f(0) … f(n−1) on a goroutine per CPU; an error fails b.
+func onEveryCPU(n int, f func(i int) error, b *testing.B) {
+	var wg sync.WaitGroup
+	var next atomic.Int64
+	for range runtime.NumCPU() {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := int(next.Add(1)) - 1; i < n; i = int(next.Add(1)) - 1 {
+				if err := f(i); err != nil {
+					b.Error(err)
+					return
+				}
+			}
+		}()
+	}
+	wg.Wait()
 }
 
 // BenchmarkScanNoStore is ingest's scan (read, decode, clean) of the same
