@@ -17,6 +17,9 @@ const (
 	Method60Min  = "60min"
 )
 
+// ModelNames are the models every command names, in their usual order.
+var ModelNames = []string{ModelCP2, ModelCP2Work, ModelCP2Inverse, ModelMorton, ModelOmni}
+
 // ModelName is the model a name means, one set of names for every command:
 // cp2, cp2-work, cp2-inverse, morton3 and omni, also written morton,
 // ompd and omni-domain. ok is false for a name that is none of them.

@@ -13,6 +13,7 @@ import (
 	"github.com/sustain-cycling/sustain/estimate"
 	"github.com/sustain-cycling/sustain/ingest"
 	"github.com/sustain-cycling/sustain/powerduration"
+	"github.com/sustain-cycling/sustain/view"
 	"github.com/urfave/cli/v2"
 )
 
@@ -207,15 +208,7 @@ func pairR(p estimate.PairAgreement) *float64 {
 	if p.N < minPairsForR {
 		return nil
 	}
-	return finite(p.R)
-}
-
-// finite returns nil for a number JSON cannot hold.
-func finite(v float64) *float64 {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return nil
-	}
-	return &v
+	return view.Finite(p.R)
 }
 
 func compareJSON(subjects []estimate.Subject, pairs []estimate.PairAgreement, skipped []ingest.Skipped) map[string]any {
@@ -226,14 +219,14 @@ func compareJSON(subjects []estimate.Subject, pairs []estimate.PairAgreement, sk
 			j.LeftOut = []string{}
 		}
 		if p.N >= 2 {
-			j.BiasW, j.SDW, j.LowerW, j.UpperW, j.R = finite(p.Bias), finite(p.SD), finite(p.LowerL), finite(p.UpperL), pairR(p)
+			j.BiasW, j.SDW, j.LowerW, j.UpperW, j.R = view.Finite(p.Bias), view.Finite(p.SD), view.Finite(p.LowerL), view.Finite(p.UpperL), pairR(p)
 		}
 		ps = append(ps, j)
 	}
 	if subjects == nil {
 		subjects = []estimate.Subject{}
 	}
-	return map[string]any{"subjects": subjects, "pairs": ps, "skipped": nonNil(skipped)}
+	return map[string]any{"subjects": subjects, "pairs": ps, "skipped": view.NonNil(skipped)}
 }
 
 // writeCompareCSV writes one table of two kinds of rows: each subject's

@@ -14,6 +14,7 @@ import (
 
 	"github.com/sustain-cycling/sustain/ingest"
 	"github.com/sustain-cycling/sustain/powerduration"
+	"github.com/sustain-cycling/sustain/view"
 	"github.com/urfave/cli/v2"
 )
 
@@ -134,7 +135,7 @@ func curveAction(c *cli.Context) error {
 		return err
 	}
 	inWin := powerduration.InWindow(curves, win)
-	out := curveOut{Window: win, Rides: len(inWin), Skipped: nonNil(res.Skipped), MassKG: c.Float64("mass"),
+	out := curveOut{Window: win, Rides: len(inWin), Skipped: view.NonNil(res.Skipped), MassKG: c.Float64("mass"),
 		Points: powerduration.BestOf(inWin).Points}
 	if cf, ct := c.String("compare-from"), c.String("compare-to"); cf != "" || ct != "" {
 		cw := powerduration.Window{From: cf, To: ct}
@@ -167,7 +168,7 @@ func curveAction(c *cli.Context) error {
 		}
 	}
 	if len(curves) > 0 && out.Rides == 0 {
-		return cli.Exit(fmt.Sprintf("no ride between %s and %s", orOpen(win.From), orOpen(win.To)), exitNothing)
+		return cli.Exit(fmt.Sprintf("no ride between %s and %s", view.OrOpen(win.From), view.OrOpen(win.To)), exitNothing)
 	}
 	return nothingCurves(curves, res.Skipped)
 }
@@ -227,34 +228,6 @@ func countTrue(bs ...bool) int {
 	return n
 }
 
-func nonNil(s []ingest.Skipped) []ingest.Skipped {
-	if s == nil {
-		return []ingest.Skipped{}
-	}
-	return s
-}
-
-// span is a window in words: "from A to B", "from A on", "up to B", or
-// "on every date".
-func span(w powerduration.Window) string {
-	switch {
-	case w.From != "" && w.To != "":
-		return "from " + w.From + " to " + w.To
-	case w.From != "":
-		return "from " + w.From + " on"
-	case w.To != "":
-		return "up to " + w.To
-	}
-	return "on every date"
-}
-
-func orOpen(d string) string {
-	if d == "" {
-		return "(open)"
-	}
-	return d
-}
-
 // checkMassAndPlot checks --mass (above 0 kg when given) and --plot (a
 // new .png or .svg file, outside the folders read).
 func checkMassAndPlot(c *cli.Context) error {
@@ -272,29 +245,8 @@ func isPlotName(p string) bool {
 	return ext == ".png" || ext == ".svg"
 }
 
-// effortRow is a tab-separated row naming an effort and where it was ridden.
-func effortRow(p powerduration.Point) string {
-	return fmt.Sprintf("  %s\t%.0f W\t%s\tat %s in %s", durationLabel(p.DurationS), p.Watts, p.Date, clock(p.OffsetS), shown(p.File))
-}
-
-// durationLabel writes a duration as a rider says it: 5 s, 8 min, 1 h 30 min.
-func durationLabel(s int) string {
-	switch {
-	case s < 60:
-		return fmt.Sprintf("%d s", s)
-	case s < 3600 && s%60 == 0:
-		return fmt.Sprintf("%d min", s/60)
-	case s < 3600:
-		return fmt.Sprintf("%d min %d s", s/60, s%60)
-	case s%3600 == 0:
-		return fmt.Sprintf("%d h", s/3600)
-	default:
-		return fmt.Sprintf("%d h %d min", s/3600, s%3600/60)
-	}
-}
-
 func renderCurve(w io.Writer, out curveOut, paths []string) {
-	fmt.Fprintf(w, "Best mean power, %s %s\n\n", count(out.Rides, "ride"), span(out.Window))
+	fmt.Fprintf(w, "Best mean power, %s %s\n\n", view.Count(out.Rides, "ride"), view.Span(out.Window))
 	if len(out.Points) == 0 {
 		return
 	}
@@ -318,7 +270,7 @@ func renderCurve(w io.Writer, out curveOut, paths []string) {
 		if !ok {
 			continue
 		}
-		row := fmt.Sprintf("%s\t%.0f\t", durationLabel(d), p.Watts)
+		row := fmt.Sprintf("%s\t%.0f\t", view.DurationLabel(d), p.Watts)
 		if out.MassKG > 0 {
 			row += fmt.Sprintf("%.2f\t", p.Watts/out.MassKG)
 		}
@@ -329,13 +281,13 @@ func renderCurve(w io.Writer, out curveOut, paths []string) {
 				row += "-\t-\t"
 			}
 		}
-		row += fmt.Sprintf("%s\t%s\t  %s", p.Date, clock(p.OffsetS), shown(p.File))
+		row += fmt.Sprintf("%s\t%s\t  %s", p.Date, view.Clock(p.OffsetS), view.Shown(p.File))
 		files[p.File] = true
 		fmt.Fprintln(tw, row)
 	}
 	tw.Flush()
 	if out.Compare != nil {
-		fmt.Fprintf(w, "\ncompared: %s %s\n", count(out.Compare.Rides, "ride"), span(out.Compare.Window))
+		fmt.Fprintf(w, "\ncompared: %s %s\n", view.Count(out.Compare.Rides, "ride"), view.Span(out.Compare.Window))
 	}
 }
 
@@ -373,5 +325,5 @@ func plotTitle(what string, paths []string, win powerduration.Window, rides int)
 	} else if len(paths) > 1 {
 		name = fmt.Sprintf("%s and %d more", filepath.Base(filepath.Clean(paths[0])), len(paths)-1)
 	}
-	return fmt.Sprintf("%s: %s, %s (%s)", what, name, strings.TrimPrefix(span(win), "from "), count(rides, "ride"))
+	return fmt.Sprintf("%s: %s, %s (%s)", what, name, strings.TrimPrefix(view.Span(win), "from "), view.Count(rides, "ride"))
 }

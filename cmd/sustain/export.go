@@ -10,6 +10,7 @@ import (
 	"github.com/sustain-cycling/sustain/ingest"
 	"github.com/sustain-cycling/sustain/internal/export"
 	"github.com/sustain-cycling/sustain/powerduration"
+	"github.com/sustain-cycling/sustain/view"
 	"github.com/urfave/cli/v2"
 )
 
@@ -142,7 +143,7 @@ func exportAction(c *cli.Context) error {
 	w := c.App.Writer
 	if c.Bool("json") {
 		if err := writeJSON(w, map[string]any{"format": format, "out": c.String("out"), "rides": len(rides.Rows),
-			"curve_points": len(points.Rows), "estimates": len(ests.Rows), "skipped": nonNil(skipped)}); err != nil {
+			"curve_points": len(points.Rows), "estimates": len(ests.Rows), "skipped": view.NonNil(skipped)}); err != nil {
 			return err
 		}
 	} else {

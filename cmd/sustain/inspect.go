@@ -13,6 +13,7 @@ import (
 
 	"github.com/sustain-cycling/sustain/ingest"
 	"github.com/sustain-cycling/sustain/internal/store"
+	"github.com/sustain-cycling/sustain/view"
 	"github.com/urfave/cli/v2"
 )
 
@@ -44,10 +45,10 @@ func inspectCommand() *cli.Command {
 				renderInspect(c.App.Writer, res)
 				listSkipped(c.App.ErrWriter, res.Skipped) // inspect lists every file
 				for _, d := range res.Duplicates {
-					fmt.Fprintf(c.App.Writer, "duplicate %s: left out, the same ride as %s (%s)\n", shown(d.File), shown(d.Kept), d.Why)
+					fmt.Fprintf(c.App.Writer, "duplicate %s: left out, the same ride as %s (%s)\n", view.Shown(d.File), view.Shown(d.Kept), d.Why)
 				}
 				for _, a := range out.Archives {
-					fmt.Fprintf(c.App.Writer, "archive %s: %s, %d skipped, %d duplicates\n", shown(a.Archive), count(a.Rides, "ride"), a.Skipped, a.Duplicates)
+					fmt.Fprintf(c.App.Writer, "archive %s: %s, %d skipped, %d duplicates\n", view.Shown(a.Archive), view.Count(a.Rides, "ride"), a.Skipped, a.Duplicates)
 				}
 				if out.Store != nil {
 					fmt.Fprintf(c.App.ErrWriter, "store %s: %d files answered from it, %d decoded\n", out.Store.Path, out.Store.Cached, out.Store.Decoded)
@@ -261,18 +262,18 @@ func renderInspect(w io.Writer, res ingest.Result) {
 			spikes = strconv.Itoa(q.SpikesRemoved)
 		}
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%gs\t%s\t%s\t%s\t%s\t%s\t%s%s\t%s\n",
-			r.Date(), r.Start.Format("15:04"), clock(q.Seconds), percent(q.PowerCoverage), q.RecordingIntervalS,
+			r.Date(), r.Start.Format("15:04"), view.Clock(q.Seconds), percent(q.PowerCoverage), q.RecordingIntervalS,
 			countSeconds(len(q.Gaps), q.GapSeconds), countSeconds(len(q.Dropouts), q.DropoutSeconds),
-			spikes, stuckText(q.StuckRuns), r.Sport, shown(r.File), session, strings.Join(notes, "; "))
+			spikes, stuckText(q.StuckRuns), r.Sport, view.Shown(r.File), session, strings.Join(notes, "; "))
 	}
 	tw.Flush()
 	if len(res.Rides) > 0 {
 		fmt.Fprintln(w, "gaps: missing runs set to 0 W; dropouts: runs of 5 s or less filled by interpolation; stuck: identical power for 60 s or more (left as is)")
 	}
 	if res.Read > len(res.Rides) {
-		fmt.Fprintf(w, "%s read (%d with problems listed), %s skipped\n", count(res.Read, "ride"), len(res.Rides), count(len(res.Skipped), "file"))
+		fmt.Fprintf(w, "%s read (%d with problems listed), %s skipped\n", view.Count(res.Read, "ride"), len(res.Rides), view.Count(len(res.Skipped), "file"))
 	} else {
-		fmt.Fprintf(w, "%s read, %s skipped\n", count(len(res.Rides), "ride"), count(len(res.Skipped), "file"))
+		fmt.Fprintf(w, "%s read, %s skipped\n", view.Count(len(res.Rides), "ride"), view.Count(len(res.Skipped), "file"))
 	}
 }
 
@@ -306,11 +307,6 @@ func listsNotNull(q ingest.Quality) ingest.Quality {
 		q.StuckRuns = []ingest.StuckRun{}
 	}
 	return q
-}
-
-// clock formats seconds as h:mm:ss.
-func clock(s int) string {
-	return fmt.Sprintf("%d:%02d:%02d", s/3600, s/60%60, s%60)
 }
 
 func countSeconds(n, s int) string {

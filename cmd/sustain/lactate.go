@@ -15,6 +15,7 @@ import (
 	"github.com/sustain-cycling/sustain/ingest"
 	"github.com/sustain-cycling/sustain/lactate"
 	"github.com/sustain-cycling/sustain/powerduration"
+	"github.com/sustain-cycling/sustain/view"
 	"github.com/urfave/cli/v2"
 )
 
@@ -52,7 +53,7 @@ type lactateThresholdJSON struct {
 type lactateFieldJSON struct {
 	Window     powerduration.Window `json:"window"`
 	Rides      int                  `json:"rides"`
-	Threshold  thresholdJSON        `json:"threshold"`
+	Threshold  view.Threshold       `json:"threshold"`
 	Rule20W    *float64             `json:"rule_20min_w"`
 	Rule20Conf string               `json:"rule_20min_confidence,omitempty"`
 }
@@ -194,7 +195,7 @@ func lactateAction(c *cli.Context) error {
 			win := aroundTest(a.Test.Date, powerduration.Newest(curves))
 			rep := estimate.Estimate(rides.Rides, curves, win, eo)
 			field := fieldOf(rep)
-			fj := &lactateFieldJSON{Window: win, Rides: rep.Rides, Threshold: thresholdOf(rep.Threshold), Rule20W: finitePtr(field.Rule20W), Rule20Conf: field.Rule20Conf}
+			fj := &lactateFieldJSON{Window: win, Rides: rep.Rides, Threshold: view.ThresholdOf(rep.Threshold), Rule20W: finitePtr(field.Rule20W), Rule20Conf: field.Rule20Conf}
 			tj.Field = fj
 			for _, g := range lactate.Gaps(field, &a, nil) {
 				tj.Gaps = append(tj.Gaps, lactateGapJSON(g))
@@ -219,7 +220,7 @@ func lactateAction(c *cli.Context) error {
 			rep := estimate.Estimate(rides.Rides, curves, aroundTest(trialDate(trials), powerduration.Newest(curves)), eo)
 			tj := lactateTestJSON{Test: "MLSS trials", Steps: []lactateStepJSON{}, Thresholds: []lactateThresholdJSON{}, Notes: []string{}}
 			field := fieldOf(rep)
-			tj.Field = &lactateFieldJSON{Window: rep.Window, Rides: rep.Rides, Threshold: thresholdOf(rep.Threshold), Rule20W: finitePtr(field.Rule20W), Rule20Conf: field.Rule20Conf}
+			tj.Field = &lactateFieldJSON{Window: rep.Window, Rides: rep.Rides, Threshold: view.ThresholdOf(rep.Threshold), Rule20W: finitePtr(field.Rule20W), Rule20Conf: field.Rule20Conf}
 			for _, g := range lactate.Gaps(field, nil, bracket) {
 				tj.Gaps = append(tj.Gaps, lactateGapJSON(g))
 			}
@@ -379,7 +380,7 @@ func parseTrialSpec(s string) (trialSpec, error) {
 // measure reads the trial's ride and measures minutes 10–30.
 func (sp trialSpec) measure(c *cli.Context) (lactate.Trial, error) {
 	t := lactate.Trial{PowerW: math.NaN(), Lactate10Mmol: sp.la10, Lactate30Mmol: sp.la30, RideFile: sp.file, StartS: sp.startS, DurationS: sp.lengthS,
-		Source: fmt.Sprintf("%s@%s", sp.file, clock(sp.startS))}
+		Source: fmt.Sprintf("%s@%s", sp.file, view.Clock(sp.startS))}
 	opts, err := ingestOptions(c)
 	if err != nil {
 		return t, err
@@ -416,7 +417,7 @@ func renderLactate(w io.Writer, out lactateOut) {
 			fmt.Fprintln(w)
 		}
 		if len(t.Steps) > 0 {
-			name := strings.Join(strings.Fields(t.Athlete+" "+orOpen(t.Date)), " ")
+			name := strings.Join(strings.Fields(t.Athlete+" "+view.OrOpen(t.Date)), " ")
 			fmt.Fprintf(w, "Step test %s (%s): %d steps, baseline %.1f mmol/L (the lowest before the curve starts rising)\n",
 				name, t.File, len(t.Steps), t.BaselineMmol)
 			tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)

@@ -11,6 +11,7 @@ import (
 	"github.com/sustain-cycling/sustain/ingest"
 	"github.com/sustain-cycling/sustain/internal/store"
 	"github.com/sustain-cycling/sustain/powerduration"
+	"github.com/sustain-cycling/sustain/view"
 	"github.com/urfave/cli/v2"
 	"golang.org/x/term"
 )
@@ -256,13 +257,13 @@ func reportSkipped(w io.Writer, skipped []ingest.Skipped) {
 	for i, k := range kinds {
 		parts[i] = fmt.Sprintf("%d %s", byKind[k], k)
 	}
-	fmt.Fprintf(w, "%s skipped: %s; `sustain inspect` lists each with its reason\n", count(len(skipped), "file"), strings.Join(parts, ", "))
+	fmt.Fprintf(w, "%s skipped: %s; `sustain inspect` lists each with its reason\n", view.Count(len(skipped), "file"), strings.Join(parts, ", "))
 }
 
 // listSkipped writes one line per skipped file to w.
 func listSkipped(w io.Writer, skipped []ingest.Skipped) {
 	for _, s := range skipped {
-		fmt.Fprintf(w, "skipped %s: %s\n", shown(s.File), s.Reason)
+		fmt.Fprintf(w, "skipped %s: %s\n", view.Shown(s.File), s.Reason)
 	}
 }
 
@@ -283,13 +284,5 @@ func nothingRead(res ingest.Result) error {
 	if len(res.Rides) > 0 {
 		return nil
 	}
-	return cli.Exit(fmt.Sprintf("no ride could be read (%s skipped)", count(len(res.Skipped), "file")), exitNothing)
-}
-
-// count is n things in words: "1 ride", "3 rides".
-func count(n int, thing string) string {
-	if n == 1 {
-		return "1 " + thing
-	}
-	return fmt.Sprintf("%d %ss", n, thing)
+	return cli.Exit(fmt.Sprintf("no ride could be read (%s skipped)", view.Count(len(res.Skipped), "file")), exitNothing)
 }

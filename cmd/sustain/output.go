@@ -4,10 +4,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
-	"strconv"
 	"strings"
-	"unicode"
-	"unicode/utf8"
 
 	"github.com/urfave/cli/v2"
 )
@@ -67,15 +64,4 @@ func inside(path string, reads []string) string {
 		}
 	}
 	return ""
-}
-
-// shown is a file name as text output prints it: quoted (Go syntax, with
-// escapes) when it holds a control character, an escape sequence or bytes
-// that are not UTF-8, so that a name can neither fake a line of output nor
-// colour the terminal.
-func shown(name string) string {
-	if !utf8.ValidString(name) || strings.IndexFunc(name, func(r rune) bool { return unicode.IsControl(r) || r == 0x7f }) >= 0 {
-		return strconv.Quote(name)
-	}
-	return name
 }

@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"github.com/sustain-cycling/sustain/view"
 	"image/color"
 	"math"
 	"strconv"
@@ -167,12 +168,12 @@ func addLine(p *plot.Plot, xy plotter.XYs, label string, ink color.Color, dashed
 
 func plotCurves(path string, out curveOut, title string) error {
 	p := newCurvePlot(title)
-	label := fmt.Sprintf("%s to %s", orOpen(out.Window.From), orOpen(out.Window.To))
+	label := fmt.Sprintf("%s to %s", view.OrOpen(out.Window.From), view.OrOpen(out.Window.To))
 	if err := addLine(p, curveXYs(out.Points), label, inkMain, false, 2); err != nil {
 		return err
 	}
 	if out.Compare != nil {
-		cl := fmt.Sprintf("%s to %s (compared)", orOpen(out.Compare.Window.From), orOpen(out.Compare.Window.To))
+		cl := fmt.Sprintf("%s to %s (compared)", view.OrOpen(out.Compare.Window.From), view.OrOpen(out.Compare.Window.To))
 		if err := addLine(p, curveXYs(out.Compare.Points), cl, inkCompare, true, 1.5); err != nil {
 			return err
 		}

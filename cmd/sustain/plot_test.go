@@ -1,6 +1,7 @@
 package main
 
 import (
+	"github.com/sustain-cycling/sustain/view"
 	"math"
 	"strconv"
 	"strings"
@@ -74,11 +75,11 @@ func TestSmallText(t *testing.T) {
 			t.Errorf("percent(%v) = %q, want %q", share, got, want)
 		}
 	}
-	if count(1, "ride") != "1 ride" || count(0, "ride") != "0 rides" || count(3, "window") != "3 windows" {
+	if view.Count(1, "ride") != "1 ride" || view.Count(0, "ride") != "0 rides" || view.Count(3, "window") != "3 windows" {
 		t.Error("count")
 	}
 	for w, want := range map[[2]string]string{{"", ""}: "on every date", {"2026-01-01", ""}: "from 2026-01-01 on", {"", "2026-02-01"}: "up to 2026-02-01"} {
-		if got := span(powerduration.Window{From: w[0], To: w[1]}); got != want {
+		if got := view.Span(powerduration.Window{From: w[0], To: w[1]}); got != want {
 			t.Errorf("span %v = %q", w, got)
 		}
 	}

@@ -10,6 +10,7 @@ import (
 	"github.com/sustain-cycling/sustain/estimate"
 	"github.com/sustain-cycling/sustain/ingest"
 	"github.com/sustain-cycling/sustain/powerduration"
+	"github.com/sustain-cycling/sustain/view"
 	"github.com/urfave/cli/v2"
 )
 
@@ -118,7 +119,7 @@ func allOutAction(c *cli.Context) error {
 	if c.Bool("json") {
 		return writeJSON(w, map[string]any{"file": r.File, "date": r.Date(), "test": a, "caution": estimate.Caution})
 	}
-	fmt.Fprintf(w, "3-minute all-out test, %s (%s), from %s\n\n", shown(r.File), r.Date(), clock(a.StartS))
+	fmt.Fprintf(w, "3-minute all-out test, %s (%s), from %s\n\n", view.Shown(r.File), r.Date(), view.Clock(a.StartS))
 	fmt.Fprintf(w, "  end-test power (mean of the last 30 s, estimates CP)   %.0f W\n", a.EndPowerW)
 	fmt.Fprintf(w, "  work above end-test power (estimates W′)              %.1f kJ\n", a.WorkAboveJ/1000)
 	fmt.Fprintf(w, "  mean power %.0f W, first 30 s %.0f W, peak %.0f W\n", a.MeanW, a.First30W, a.PeakW)
@@ -195,7 +196,7 @@ func renderTrials(w io.Writer, es []estimate.Effort, t estimate.Trials) {
 	fmt.Fprintln(w, "Multi-trial critical-power test (2-parameter model, Monod & Scherrer 1965)")
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	for _, e := range es {
-		fmt.Fprintln(tw, effortRow(e.Point))
+		fmt.Fprintln(tw, view.EffortRow(e.Point))
 	}
 	tw.Flush()
 	fmt.Fprintf(w, "\n  CP %.1f W ± %.1f (%.1f %%)   W′ %.1f kJ ± %.1f (%.0f %%)\n", t.Fit.CPW, t.Fit.CPSEW, t.CPSEPct, t.Fit.WPrimeJ/1000, t.Fit.WPrimeSEJ/1000, t.WSEPct)

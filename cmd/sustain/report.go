@@ -13,6 +13,7 @@ import (
 
 	"github.com/sustain-cycling/sustain/estimate"
 	"github.com/sustain-cycling/sustain/powerduration"
+	"github.com/sustain-cycling/sustain/view"
 	"github.com/urfave/cli/v2"
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
@@ -40,8 +41,8 @@ func reportCommand() *cli.Command {
 // and season --json (embedded in the page as they are), and the plots.
 type reportPage struct {
 	Name, Made, Version string
-	Estimate            estimateOut
-	Season              seasonOut
+	Estimate            view.Estimate
+	Season              view.Season
 	EstimateJSON        template.JS // estimate --json, as it is
 	SeasonJSON          template.JS // season --json, as it is
 	CurveSVG, SeasonSVG template.HTML
@@ -58,10 +59,10 @@ var reportTemplate = template.Must(template.New("report").Funcs(template.FuncMap
 	"w1":    func(v float64) string { return fmt.Sprintf("%.1f", v) },
 	"kj":    func(v float64) string { return fmt.Sprintf("%.1f", v/1000) },
 	"wkg":   func(v *float64) string { return fmt.Sprintf("%.2f", deref(v)) },
-	"dur":   durationLabel,
-	"clock": clock,
+	"dur":   view.DurationLabel,
+	"clock": view.Clock,
 	"base":  func(p string) string { return filepath.Base(p) },
-	"span":  span,
+	"span":  view.Span,
 	"deref": deref,
 }).Parse(reportHTML))
 
@@ -105,12 +106,10 @@ func reportAction(c *cli.Context) error {
 		return err
 	}
 	page := reportPage{Name: c.String("name"), Made: time.Now().Format("2006-01-02"), Version: version(),
-		Estimate: estimateJSON(rep, res.Skipped), Season: seasonJSON(season, res.Skipped, len(res.Rides)),
+		Estimate: view.NewEstimate(rep, res.Skipped), Season: view.NewSeason(season, res.Skipped, len(res.Rides)),
 		MassKG: massKG, Caution: estimate.Caution}
-	if err := page.Season.perKG(c, c.Args().Slice()); err != nil {
-		return err
-	}
-	page.Estimate.Threshold.perKG(page.MassKG)
+	page.Season.PerKG(massFunc(c, c.Args().Slice()))
+	page.Estimate.Threshold.PerKG(page.MassKG)
 	page.Estimate.AuditForm = "integral"
 	if opts.Differential {
 		page.Estimate.AuditForm = "differential"
@@ -164,7 +163,7 @@ func reportAction(c *cli.Context) error {
 	if c.Bool("json") {
 		return writeJSON(c.App.Writer, map[string]any{"out": out, "estimate": page.Estimate, "season": page.Season})
 	}
-	fmt.Fprintf(c.App.Writer, "wrote the report of %s (%s, %s) to %s\n", page.Name, count(rep.Rides, "ride"), span(win), out)
+	fmt.Fprintf(c.App.Writer, "wrote the report of %s (%s, %s) to %s\n", page.Name, view.Count(rep.Rides, "ride"), view.Span(win), out)
 	reportSkipped(c.App.ErrWriter, res.Skipped)
 	return nil
 }
