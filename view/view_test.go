@@ -96,3 +96,62 @@ func TestSeasonRenderingsAgree(t *testing.T) {
 		t.Fatal("no window estimated")
 	}
 }
+
+// The curve's table and CSV are renderings of one model: every key
+// duration's watts in the table are the model's, rounded; the CSV has a
+// row per point.
+func TestCurveRenderingsAgree(t *testing.T) {
+	_, curves := season(t)
+	best := powerduration.BestOf(curves)
+	m := Curve{Rides: len(curves), Points: best.Points}
+	var text, csvOut bytes.Buffer
+	RenderCurve(&text, m, []string{"rides"})
+	if err := WriteCurveCSV(&csvOut, m); err != nil {
+		t.Fatal(err)
+	}
+	for _, d := range []int{60, 300, 1200} {
+		p, _ := best.At(d)
+		if row := fmt.Sprintf("%s    %.0f", DurationLabel(d), p.Watts); !strings.Contains(text.String(), row) {
+			t.Errorf("the table lacks %q", row)
+		}
+	}
+	if rows := strings.Count(csvOut.String(), "\n"); rows != len(best.Points)+1 {
+		t.Errorf("csv: %d lines for %d points", rows, len(best.Points))
+	}
+}
+
+// A comparison's table, JSON and CSV are renderings of one model: the
+// bias each prints is the agreement's.
+func TestComparisonRenderingsAgree(t *testing.T) {
+	subjects := []estimate.Subject{}
+	var a, b []float64
+	for i, w := range []float64{250, 262, 281, 300, 318, 240} {
+		subjects = append(subjects, estimate.Subject{Name: fmt.Sprintf("s%d", i), Estimates: map[string]estimate.MethodEstimate{
+			"cp2": {Watts: w, Confidence: estimate.High}, "20min": {Watts: w + 4 + float64(i%3), Confidence: estimate.Medium}}})
+		a, b = append(a, w), append(b, w+4+float64(i%3))
+	}
+	ag, err := estimate.Agree(a, b)
+	if err != nil {
+		t.Fatal(err)
+	}
+	pairs := []estimate.PairAgreement{{A: "cp2", B: "20min", Agreement: ag}}
+	js, _ := json.Marshal(NewComparison(subjects, pairs, nil))
+	var back struct {
+		Pairs []struct {
+			BiasW float64 `json:"bias_w"`
+			Note  string  `json:"note"`
+		} `json:"pairs"`
+	}
+	if err := json.Unmarshal(js, &back); err != nil || len(back.Pairs) != 1 || back.Pairs[0].BiasW != ag.Bias {
+		t.Fatalf("json %s", js)
+	}
+	var text, csvOut bytes.Buffer
+	RenderComparison(&text, "athletes", subjects, pairs, []string{"cp2", "20min"}, nil)
+	WriteComparisonCSV(&csvOut, subjects, pairs, []string{"cp2", "20min"})
+	if want := fmt.Sprintf("cp2 − 20min  6  %+.1f", ag.Bias); !strings.Contains(text.String(), want) {
+		t.Errorf("the table lacks %q:\n%s", want, text.String())
+	}
+	if want := fmt.Sprintf("agreement,,,,,cp2,20min,6,%.2f,", ag.Bias); !strings.Contains(csvOut.String(), want) {
+		t.Errorf("the csv lacks %q:\n%s", want, csvOut.String())
+	}
+}

@@ -2,15 +2,12 @@ package main
 
 import (
 	"bufio"
-	"encoding/csv"
 	"encoding/json"
 	"fmt"
 	"io"
 	"os"
 	"path/filepath"
-	"strconv"
 	"strings"
-	"text/tabwriter"
 
 	"github.com/sustain-cycling/sustain/ingest"
 	"github.com/sustain-cycling/sustain/powerduration"
@@ -78,21 +75,6 @@ func curveCommand() *cli.Command {
 	}
 }
 
-type curveOut struct {
-	Window  powerduration.Window  `json:"window"`
-	Rides   int                   `json:"rides"`
-	Skipped []ingest.Skipped      `json:"skipped"`
-	MassKG  float64               `json:"mass_kg,omitempty"`
-	Points  []powerduration.Point `json:"points"`
-	Compare *compareOut           `json:"compare,omitempty"`
-}
-
-type compareOut struct {
-	Window powerduration.Window  `json:"window"`
-	Rides  int                   `json:"rides"`
-	Points []powerduration.Point `json:"points"`
-}
-
 func curveAction(c *cli.Context) error {
 	if n := countTrue(c.Bool("json"), c.Bool("csv"), c.Bool("per-ride")); n > 1 {
 		return usageError{"choose one of --json, --csv and --per-ride"}
@@ -135,7 +117,7 @@ func curveAction(c *cli.Context) error {
 		return err
 	}
 	inWin := powerduration.InWindow(curves, win)
-	out := curveOut{Window: win, Rides: len(inWin), Skipped: view.NonNil(res.Skipped), MassKG: c.Float64("mass"),
+	out := view.Curve{Window: win, Rides: len(inWin), Skipped: view.NonNil(res.Skipped), MassKG: c.Float64("mass"),
 		Points: powerduration.BestOf(inWin).Points}
 	if cf, ct := c.String("compare-from"), c.String("compare-to"); cf != "" || ct != "" {
 		cw := powerduration.Window{From: cf, To: ct}
@@ -145,15 +127,15 @@ func curveAction(c *cli.Context) error {
 			}
 		}
 		cc := powerduration.InWindow(curves, cw)
-		out.Compare = &compareOut{Window: cw, Rides: len(cc), Points: powerduration.BestOf(cc).Points}
+		out.Compare = &view.CurveCompared{Window: cw, Rides: len(cc), Points: powerduration.BestOf(cc).Points}
 	}
 	switch {
 	case c.Bool("json"):
 		err = writeJSON(w, out)
 	case c.Bool("csv"):
-		err = writeCurveCSV(w, out)
+		err = view.WriteCurveCSV(w, out)
 	default:
-		renderCurve(w, out, c.Args().Slice())
+		view.RenderCurve(w, out, c.Args().Slice())
 		reportSkipped(c.App.ErrWriter, out.Skipped)
 	}
 	if err != nil {
@@ -243,78 +225,6 @@ func checkMassAndPlot(c *cli.Context) error {
 func isPlotName(p string) bool {
 	ext := strings.ToLower(filepath.Ext(p))
 	return ext == ".png" || ext == ".svg"
-}
-
-func renderCurve(w io.Writer, out curveOut, paths []string) {
-	fmt.Fprintf(w, "Best mean power, %s %s\n\n", view.Count(out.Rides, "ride"), view.Span(out.Window))
-	if len(out.Points) == 0 {
-		return
-	}
-	byDur := curveIndex(out.Points)
-	var cmp map[int]powerduration.Point
-	if out.Compare != nil {
-		cmp = curveIndex(out.Compare.Points)
-	}
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	head := "duration\twatts\t"
-	if out.MassKG > 0 {
-		head += "W/kg\t"
-	}
-	if cmp != nil {
-		head += "compared\tchange\t"
-	}
-	fmt.Fprintln(tw, head+"date\t start in ride\t")
-	files := map[string]bool{}
-	for _, d := range powerduration.KeyDurations {
-		p, ok := byDur[d]
-		if !ok {
-			continue
-		}
-		row := fmt.Sprintf("%s\t%.0f\t", view.DurationLabel(d), p.Watts)
-		if out.MassKG > 0 {
-			row += fmt.Sprintf("%.2f\t", p.Watts/out.MassKG)
-		}
-		if cmp != nil {
-			if q, ok := cmp[d]; ok {
-				row += fmt.Sprintf("%.0f\t%+.0f\t", q.Watts, p.Watts-q.Watts)
-			} else {
-				row += "-\t-\t"
-			}
-		}
-		row += fmt.Sprintf("%s\t%s\t  %s", p.Date, view.Clock(p.OffsetS), view.Shown(p.File))
-		files[p.File] = true
-		fmt.Fprintln(tw, row)
-	}
-	tw.Flush()
-	if out.Compare != nil {
-		fmt.Fprintf(w, "\ncompared: %s %s\n", view.Count(out.Compare.Rides, "ride"), view.Span(out.Compare.Window))
-	}
-}
-
-func curveIndex(ps []powerduration.Point) map[int]powerduration.Point {
-	m := make(map[int]powerduration.Point, len(ps))
-	for _, p := range ps {
-		m[p.DurationS] = p
-	}
-	return m
-}
-
-func writeCurveCSV(w io.Writer, out curveOut) error {
-	cw := csv.NewWriter(w)
-	head := []string{"duration_s", "watts"}
-	if out.MassKG > 0 {
-		head = append(head, "w_per_kg")
-	}
-	cw.Write(append(head, "file", "date", "offset_s"))
-	for _, p := range out.Points {
-		row := []string{strconv.Itoa(p.DurationS), strconv.FormatFloat(p.Watts, 'f', 2, 64)}
-		if out.MassKG > 0 {
-			row = append(row, strconv.FormatFloat(p.Watts/out.MassKG, 'f', 3, 64))
-		}
-		cw.Write(append(row, p.File, p.Date, strconv.Itoa(p.OffsetS)))
-	}
-	cw.Flush()
-	return cw.Error()
 }
 
 // plotTitle names what is plotted, the folder and the window.

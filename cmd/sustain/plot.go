@@ -166,7 +166,7 @@ func addLine(p *plot.Plot, xy plotter.XYs, label string, ink color.Color, dashed
 	return nil
 }
 
-func plotCurves(path string, out curveOut, title string) error {
+func plotCurves(path string, out view.Curve, title string) error {
 	p := newCurvePlot(title)
 	label := fmt.Sprintf("%s to %s", view.OrOpen(out.Window.From), view.OrOpen(out.Window.To))
 	if err := addLine(p, curveXYs(out.Points), label, inkMain, false, 2); err != nil {
