@@ -155,3 +155,31 @@ func TestComparisonRenderingsAgree(t *testing.T) {
 		t.Errorf("the csv lacks %q:\n%s", want, csvOut.String())
 	}
 }
+
+// The inspection's table and JSON are renderings of one model: the rides
+// the table counts are the JSON's, each with its coverage as the table
+// writes it.
+func TestInspectionRenderingsAgree(t *testing.T) {
+	rides, _ := season(t)
+	res := ingest.Result{Rides: rides[:3], Skipped: []ingest.Skipped{{File: "x.fit", Reason: "empty file"}}}
+	js, _ := json.Marshal(NewInspection(res))
+	var back struct {
+		Rides   int `json:"rides"`
+		Quality []struct {
+			Coverage float64 `json:"power_coverage"`
+		} `json:"quality"`
+	}
+	if err := json.Unmarshal(js, &back); err != nil || back.Rides != 3 || len(back.Quality) != 3 {
+		t.Fatalf("json %s", js)
+	}
+	var text bytes.Buffer
+	RenderInspection(&text, res)
+	if !strings.Contains(text.String(), "3 rides read, 1 file skipped") {
+		t.Errorf("table:\n%s", text.String())
+	}
+	for _, q := range back.Quality {
+		if !strings.Contains(text.String(), "  "+Percent(q.Coverage)+" ") {
+			t.Errorf("the table lacks the coverage %s", Percent(q.Coverage))
+		}
+	}
+}

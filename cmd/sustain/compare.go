@@ -98,7 +98,7 @@ func compareAction(c *cli.Context) error {
 	w := c.App.Writer
 	switch {
 	case c.Bool("json"):
-		err = writeJSON(w, view.NewComparison(subjects, pairs, skipped))
+		err = view.WriteJSON(w, view.NewComparison(subjects, pairs, skipped))
 	case c.Bool("csv"):
 		err = view.WriteComparisonCSV(w, subjects, pairs, methods)
 	default:

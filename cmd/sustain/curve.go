@@ -131,7 +131,7 @@ func curveAction(c *cli.Context) error {
 	}
 	switch {
 	case c.Bool("json"):
-		err = writeJSON(w, out)
+		err = view.WriteJSON(w, out)
 	case c.Bool("csv"):
 		err = view.WriteCurveCSV(w, out)
 	default:

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
+	"github.com/sustain-cycling/sustain/view"
 	"io"
 	"os"
 	"path/filepath"
@@ -123,7 +124,7 @@ func demoAction(c *cli.Context) error {
 	fmt.Fprintf(w, "\nPlots: %s, %s, %s, %s\n", curvePlot, estPlot, seasonPlot, labPlot)
 	fmt.Fprintf(w, "Everything above is invented data. Point the same commands at your own ride folder to analyse your season.\n")
 	if asJSON {
-		return writeJSON(c.App.Writer, map[string]any{
+		return view.WriteJSON(c.App.Writer, map[string]any{
 			"invented": true, "rides_folder": rides, "lab_folder": lab,
 			"athlete": map[string]float64{"cp_w": demoAthlete.CPW, "w_prime_j": demoAthlete.WPrimeJ, "pmax_w": demoAthlete.PmaxW},
 			"block":   map[string]any{"weeks": "7-12", "cp_gain_w": demoCPGainW, "w_prime_loss_j": demoWLossJ},

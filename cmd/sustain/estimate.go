@@ -121,7 +121,7 @@ func estimateAction(c *cli.Context) error {
 	}
 	w := c.App.Writer
 	if c.Bool("json") {
-		if err := writeJSON(w, out); err != nil {
+		if err := view.WriteJSON(w, out); err != nil {
 			return err
 		}
 	} else {

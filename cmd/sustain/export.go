@@ -142,7 +142,7 @@ func exportAction(c *cli.Context) error {
 	}
 	w := c.App.Writer
 	if c.Bool("json") {
-		if err := writeJSON(w, map[string]any{"format": format, "out": c.String("out"), "rides": len(rides.Rows),
+		if err := view.WriteJSON(w, map[string]any{"format": format, "out": c.String("out"), "rides": len(rides.Rows),
 			"curve_points": len(points.Rows), "estimates": len(ests.Rows), "skipped": view.NonNil(skipped)}); err != nil {
 			return err
 		}

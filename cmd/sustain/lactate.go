@@ -238,7 +238,7 @@ func lactateAction(c *cli.Context) error {
 	var err error
 	switch {
 	case c.Bool("json"):
-		err = writeJSON(w, out)
+		err = view.WriteJSON(w, out)
 	case c.Bool("csv"):
 		err = writeLactateCSV(w, out)
 	default:

@@ -71,7 +71,7 @@ func TestDateTicks(t *testing.T) {
 // with their nouns, an open window reads in words.
 func TestSmallText(t *testing.T) {
 	for share, want := range map[float64]string{1: "100%", 0.9989: "99.8%", 0.995: "99.5%", 0.994: "99%", 0: "0%", 0.001: "0.1%", 0.5: "50%"} {
-		if got := percent(share); got != want {
+		if got := view.Percent(share); got != want {
 			t.Errorf("percent(%v) = %q, want %q", share, got, want)
 		}
 	}

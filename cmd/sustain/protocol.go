@@ -117,7 +117,7 @@ func allOutAction(c *cli.Context) error {
 	}
 	w := c.App.Writer
 	if c.Bool("json") {
-		return writeJSON(w, map[string]any{"file": r.File, "date": r.Date(), "test": a, "caution": estimate.Caution})
+		return view.WriteJSON(w, map[string]any{"file": r.File, "date": r.Date(), "test": a, "caution": estimate.Caution})
 	}
 	fmt.Fprintf(w, "3-minute all-out test, %s (%s), from %s\n\n", view.Shown(r.File), r.Date(), view.Clock(a.StartS))
 	fmt.Fprintf(w, "  end-test power (mean of the last 30 s, estimates CP)   %.0f W\n", a.EndPowerW)
@@ -184,7 +184,7 @@ func trialsAction(c *cli.Context) error {
 	}
 	w := c.App.Writer
 	if c.Bool("json") {
-		return writeJSON(w, map[string]any{"efforts": es, "cp_w": t.Fit.CPW, "w_prime_j": t.Fit.WPrimeJ, "cp_se_w": t.Fit.CPSEW,
+		return view.WriteJSON(w, map[string]any{"efforts": es, "cp_w": t.Fit.CPW, "w_prime_j": t.Fit.WPrimeJ, "cp_se_w": t.Fit.CPSEW,
 			"w_prime_se_j": t.Fit.WPrimeSEJ, "cp_se_pct": t.CPSEPct, "w_prime_se_pct": t.WSEPct, "accepted": t.Accepted,
 			"problems": t.Problems, "caution": estimate.Caution})
 	}

@@ -161,7 +161,7 @@ func reportAction(c *cli.Context) error {
 		return fmt.Errorf("report %s: %w", out, err)
 	}
 	if c.Bool("json") {
-		return writeJSON(c.App.Writer, map[string]any{"out": out, "estimate": page.Estimate, "season": page.Season})
+		return view.WriteJSON(c.App.Writer, map[string]any{"out": out, "estimate": page.Estimate, "season": page.Season})
 	}
 	fmt.Fprintf(c.App.Writer, "wrote the report of %s (%s, %s) to %s\n", page.Name, view.Count(rep.Rides, "ride"), view.Span(win), out)
 	reportSkipped(c.App.ErrWriter, res.Skipped)

@@ -102,7 +102,7 @@ func writeSeason(c *cli.Context, res ingest.Result, rep estimate.SeasonReport, s
 	out.PerKG(massFunc(c, paths))
 	w := c.App.Writer
 	if c.Bool("json") {
-		if err := writeJSON(w, out); err != nil {
+		if err := view.WriteJSON(w, out); err != nil {
 			return err
 		}
 	} else {
@@ -198,7 +198,7 @@ func squadAction(c *cli.Context, so estimate.SeasonOptions, members []member) er
 	}
 	w := c.App.Writer
 	if c.Bool("json") {
-		if err := writeJSON(w, map[string]any{"athletes": rows}); err != nil {
+		if err := view.WriteJSON(w, map[string]any{"athletes": rows}); err != nil {
 			return err
 		}
 	} else {
