@@ -12,6 +12,7 @@ import (
 	"github.com/sustain-cycling/sustain/estimate"
 	"github.com/sustain-cycling/sustain/ingest"
 	"github.com/sustain-cycling/sustain/internal/synth"
+	"github.com/sustain-cycling/sustain/lactate"
 	"github.com/sustain-cycling/sustain/powerduration"
 )
 
@@ -181,5 +182,44 @@ func TestInspectionRenderingsAgree(t *testing.T) {
 		if !strings.Contains(text.String(), "  "+Percent(q.Coverage)+" ") {
 			t.Errorf("the table lacks the coverage %s", Percent(q.Coverage))
 		}
+	}
+}
+
+// A lactate test's table, JSON and CSV are renderings of one model: each
+// method's threshold the table prints is the JSON's, rounded, and the CSV
+// has a row per method.
+func TestLactateRenderingsAgree(t *testing.T) {
+	csvText := synth.LactateAthlete{MLSSW: 260, RestMmol: 1}.StepTestCSV("2026-04-10", []float64{150, 180, 210, 240, 270, 300, 330})
+	tests, _, err := lactate.ReadSteps(strings.NewReader(csvText), "steps.csv")
+	if err != nil || len(tests) != 1 {
+		t.Fatalf("%v %d", err, len(tests))
+	}
+	m := Lactate{Tests: []LactateTest{NewLactateTest(lactate.Analyse(tests[0]))}, Caution: estimate.Caution}
+	var text, csvOut bytes.Buffer
+	RenderLactate(&text, m)
+	if err := WriteLactateCSV(&csvOut, m); err != nil {
+		t.Fatal(err)
+	}
+	shown := 0
+	for _, th := range m.Tests[0].Thresholds {
+		if th.PowerW == nil {
+			continue
+		}
+		shown++
+		row := ""
+		for _, l := range strings.Split(text.String(), "\n") {
+			if strings.HasPrefix(strings.TrimSpace(l), th.Label+" ") {
+				row = l
+			}
+		}
+		if want := fmt.Sprintf(" %.0f ", *th.PowerW); !strings.Contains(row, want) {
+			t.Errorf("%s: the table's row %q lacks %q", th.Method, row, want)
+		}
+		if !strings.Contains(csvOut.String(), ","+th.Method+",") {
+			t.Errorf("%s: no CSV row", th.Method)
+		}
+	}
+	if shown < 4 {
+		t.Errorf("%d thresholds placed", shown)
 	}
 }

@@ -1,14 +1,11 @@
 package main
 
 import (
-	"encoding/csv"
 	"fmt"
-	"io"
 	"math"
 	"os"
 	"strconv"
 	"strings"
-	"text/tabwriter"
 	"time"
 
 	"github.com/sustain-cycling/sustain/estimate"
@@ -37,108 +34,6 @@ func lactateCommand() *cli.Command {
 	}
 }
 
-// The lactate view: what `sustain lactate` shows, in every rendering.
-type lactateThresholdJSON struct {
-	Method       string   `json:"method"`
-	Label        string   `json:"label"`
-	Source       string   `json:"source"`
-	PowerW       *float64 `json:"power_w"`
-	LowW         *float64 `json:"low_w"`
-	HighW        *float64 `json:"high_w"`
-	HeartRateBPM *float64 `json:"heart_rate_bpm"`
-	LactateMmol  *float64 `json:"lactate_mmol"`
-	Note         string   `json:"note,omitempty"`
-}
-
-type lactateFieldJSON struct {
-	Window     powerduration.Window `json:"window"`
-	Rides      int                  `json:"rides"`
-	Threshold  view.Threshold       `json:"threshold"`
-	Rule20W    *float64             `json:"rule_20min_w"`
-	Rule20Conf string               `json:"rule_20min_confidence,omitempty"`
-}
-
-type lactateGapJSON struct {
-	Method   string  `json:"method"`
-	LactateW float64 `json:"lactate_w"`
-	Field    string  `json:"field"`
-	FieldW   float64 `json:"field_w"`
-	DiffW    float64 `json:"diff_w"`
-	DiffPct  float64 `json:"diff_pct"`
-	Note     string  `json:"note,omitempty"`
-}
-
-type lactateTestJSON struct {
-	File         string                 `json:"file"`
-	Test         string                 `json:"test"`
-	Athlete      string                 `json:"athlete"`
-	Date         string                 `json:"date"`
-	Steps        []lactateStepJSON      `json:"steps"`
-	BaselineMmol float64                `json:"baseline_mmol"`
-	Thresholds   []lactateThresholdJSON `json:"thresholds"`
-	Notes        []string               `json:"notes"`
-	Field        *lactateFieldJSON      `json:"field"`
-	Gaps         []lactateGapJSON       `json:"gaps"`
-}
-
-type lactateStepJSON struct {
-	PowerW       float64  `json:"power_w"`
-	LactateMmol  float64  `json:"lactate_mmol"`
-	HeartRateBPM *float64 `json:"heart_rate_bpm"`
-	StepS        int      `json:"step_s,omitempty"`
-}
-
-type lactateTrialJSON struct {
-	Source    string   `json:"source"`
-	Athlete   string   `json:"athlete,omitempty"`
-	Date      string   `json:"date,omitempty"`
-	PowerW    float64  `json:"power_w"`
-	La10Mmol  float64  `json:"lactate_10_mmol"`
-	La30Mmol  float64  `json:"lactate_30_mmol"`
-	RiseMmol  float64  `json:"rise_mmol"`
-	Pass      bool     `json:"pass"`
-	MeasuredW *float64 `json:"measured_w,omitempty"`
-	CVPct     *float64 `json:"cv_pct,omitempty"`
-	Wandered  bool     `json:"wandered"`
-	Note      string   `json:"note,omitempty"`
-}
-
-type lactateMLSSJSON struct {
-	Date  string   `json:"date,omitempty"` // the latest trial's
-	PassW *float64 `json:"pass_w"`
-	FailW *float64 `json:"fail_w"`
-	MidW  *float64 `json:"mid_w"`
-	Notes []string `json:"notes"`
-	Rule  string   `json:"rule"`
-}
-
-type lactateShiftJSON struct {
-	From      string   `json:"from"`
-	To        string   `json:"to"`
-	LT2FromW  *float64 `json:"lt2_from_w"`
-	LT2ToW    *float64 `json:"lt2_to_w"`
-	OBLAFromW *float64 `json:"obla4_from_w"`
-	OBLAToW   *float64 `json:"obla4_to_w"`
-	Message   string   `json:"message"`
-}
-
-type lactateOut struct {
-	Tests   []lactateTestJSON  `json:"tests"`
-	Trials  []lactateTrialJSON `json:"trials"`
-	MLSS    *lactateMLSSJSON   `json:"mlss"`
-	Shifts  []lactateShiftJSON `json:"shifts"`
-	Skipped []ingest.Skipped   `json:"skipped"`
-	Caution string             `json:"caution"`
-}
-
-// finite is a number for JSON, or null when it is NaN or infinite.
-func finitePtr(v float64) *float64 {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return nil
-	}
-	return &v
-}
-
 func lactateAction(c *cli.Context) error {
 	if c.NArg() == 0 && len(c.StringSlice("trials")) == 0 && len(c.StringSlice("trial")) == 0 {
 		return usageError{"name at least one step-test CSV, --trials CSV or --trial FILE@H:MM:SS+30m=LA10,LA30"}
@@ -160,7 +55,7 @@ func lactateAction(c *cli.Context) error {
 		}
 		specs = append(specs, t)
 	}
-	out := lactateOut{Tests: []lactateTestJSON{}, Trials: []lactateTrialJSON{}, Shifts: []lactateShiftJSON{}, Skipped: []ingest.Skipped{}, Caution: estimate.Caution}
+	out := view.Lactate{Tests: []view.LactateTest{}, Trials: []view.LactateTrial{}, Shifts: []view.LactateShift{}, Skipped: []ingest.Skipped{}, Caution: estimate.Caution}
 	lab, skipped := readLab(c.Args().Slice(), c.StringSlice("trials"))
 	out.Skipped = append(out.Skipped, skipped...)
 	analyses, trials := lab.analyses, lab.trials
@@ -190,47 +85,47 @@ func lactateAction(c *cli.Context) error {
 	}
 	eo := estimate.Options{}
 	for _, a := range analyses {
-		tj := testJSON(a)
+		tj := view.NewLactateTest(a)
 		if len(rides.Rides) > 0 {
 			win := aroundTest(a.Test.Date, powerduration.Newest(curves))
 			rep := estimate.Estimate(rides.Rides, curves, win, eo)
 			field := fieldOf(rep)
-			fj := &lactateFieldJSON{Window: win, Rides: rep.Rides, Threshold: view.ThresholdOf(rep.Threshold), Rule20W: finitePtr(field.Rule20W), Rule20Conf: field.Rule20Conf}
+			fj := &view.LactateField{Window: win, Rides: rep.Rides, Threshold: view.ThresholdOf(rep.Threshold), Rule20W: view.Finite(field.Rule20W), Rule20Conf: field.Rule20Conf}
 			tj.Field = fj
 			for _, g := range lactate.Gaps(field, &a, nil) {
-				tj.Gaps = append(tj.Gaps, lactateGapJSON(g))
+				tj.Gaps = append(tj.Gaps, view.LactateGap(g))
 			}
 		}
 		out.Tests = append(out.Tests, tj)
 	}
 	for _, t := range trials {
-		j := lactateTrialJSON{Source: t.Source, Athlete: t.Athlete, Date: t.Date, PowerW: t.PowerW, La10Mmol: t.Lactate10Mmol, La30Mmol: t.Lactate30Mmol,
+		j := view.LactateTrial{Source: t.Source, Athlete: t.Athlete, Date: t.Date, PowerW: t.PowerW, La10Mmol: t.Lactate10Mmol, La30Mmol: t.Lactate30Mmol,
 			RiseMmol: t.RiseMmol(), Pass: t.Pass(), Wandered: t.Wandered, Note: t.Note}
 		if t.RideFile != "" {
-			j.MeasuredW, j.CVPct = finitePtr(t.MeasuredW), finitePtr(t.CVPct)
+			j.MeasuredW, j.CVPct = view.Finite(t.MeasuredW), view.Finite(t.CVPct)
 		}
 		out.Trials = append(out.Trials, j)
 	}
 	if bracket != nil {
-		out.MLSS = &lactateMLSSJSON{Date: trialDate(trials), PassW: finitePtr(bracket.PassW), FailW: finitePtr(bracket.FailW), MidW: finitePtr(bracket.MidW()),
+		out.MLSS = &view.LactateMLSS{Date: trialDate(trials), PassW: view.Finite(bracket.PassW), FailW: view.Finite(bracket.FailW), MidW: view.Finite(bracket.MidW()),
 			Notes: append([]string{}, bracket.Notes...),
 			Rule:  fmt.Sprintf("a trial passes when lactate rises by no more than %.1f mmol/L from minute 10 to 30 (Heck et al. 1985; Beneke 2003)", lactate.MLSSRiseMmol)}
 		// MLSS beside the field estimate of the days around the trials
 		if len(rides.Rides) > 0 {
 			rep := estimate.Estimate(rides.Rides, curves, aroundTest(trialDate(trials), powerduration.Newest(curves)), eo)
-			tj := lactateTestJSON{Test: "MLSS trials", Steps: []lactateStepJSON{}, Thresholds: []lactateThresholdJSON{}, Notes: []string{}}
+			tj := view.LactateTest{Test: "MLSS trials", Steps: []view.LactateStep{}, Thresholds: []view.LactateThreshold{}, Notes: []string{}}
 			field := fieldOf(rep)
-			tj.Field = &lactateFieldJSON{Window: rep.Window, Rides: rep.Rides, Threshold: view.ThresholdOf(rep.Threshold), Rule20W: finitePtr(field.Rule20W), Rule20Conf: field.Rule20Conf}
+			tj.Field = &view.LactateField{Window: rep.Window, Rides: rep.Rides, Threshold: view.ThresholdOf(rep.Threshold), Rule20W: view.Finite(field.Rule20W), Rule20Conf: field.Rule20Conf}
 			for _, g := range lactate.Gaps(field, nil, bracket) {
-				tj.Gaps = append(tj.Gaps, lactateGapJSON(g))
+				tj.Gaps = append(tj.Gaps, view.LactateGap(g))
 			}
 			out.Tests = append(out.Tests, tj)
 		}
 	}
 	for _, byAthlete := range groupByAthlete(analyses) {
 		for _, s := range lactate.Shifts(byAthlete) {
-			out.Shifts = append(out.Shifts, lactateShiftJSON{From: s.From, To: s.To, LT2FromW: finitePtr(s.LT2FromW), LT2ToW: finitePtr(s.LT2ToW),
-				OBLAFromW: finitePtr(s.OBLAFromW), OBLAToW: finitePtr(s.OBLAToW), Message: s.Message})
+			out.Shifts = append(out.Shifts, view.LactateShift{From: s.From, To: s.To, LT2FromW: view.Finite(s.LT2FromW), LT2ToW: view.Finite(s.LT2ToW),
+				OBLAFromW: view.Finite(s.OBLAFromW), OBLAToW: view.Finite(s.OBLAToW), Message: s.Message})
 		}
 	}
 
@@ -240,9 +135,9 @@ func lactateAction(c *cli.Context) error {
 	case c.Bool("json"):
 		err = view.WriteJSON(w, out)
 	case c.Bool("csv"):
-		err = writeLactateCSV(w, out)
+		err = view.WriteLactateCSV(w, out)
 	default:
-		renderLactate(w, out)
+		view.RenderLactate(w, out)
 	}
 	if err != nil {
 		return err
@@ -266,21 +161,6 @@ func plainErr(err error) error {
 		return pe.Err
 	}
 	return err
-}
-
-func testJSON(a lactate.Analysis) lactateTestJSON {
-	t := a.Test
-	j := lactateTestJSON{File: t.File, Test: t.Test, Athlete: t.Athlete, Date: t.Date, BaselineMmol: a.BaselineMmol,
-		Steps: []lactateStepJSON{}, Thresholds: []lactateThresholdJSON{}, Notes: append([]string{}, a.Notes...), Gaps: []lactateGapJSON{}}
-	for _, s := range t.Steps {
-		j.Steps = append(j.Steps, lactateStepJSON{PowerW: s.PowerW, LactateMmol: s.LactateMmol, HeartRateBPM: finitePtr(s.HeartRateBPM), StepS: s.DurationS})
-	}
-	for _, th := range a.Thresholds {
-		j.Thresholds = append(j.Thresholds, lactateThresholdJSON{Method: th.Method, Label: th.Label, Source: th.Source,
-			PowerW: finitePtr(th.PowerW), LowW: finitePtr(th.LowW), HighW: finitePtr(th.HighW),
-			HeartRateBPM: finitePtr(th.HeartRateBPM), LactateMmol: finitePtr(th.LactateMmol), Note: th.Note})
-	}
-	return j
 }
 
 // aroundTest is the window of the field estimate beside a test: the 42
@@ -402,128 +282,6 @@ func (sp trialSpec) measure(c *cli.Context) (lactate.Trial, error) {
 		return t, fmt.Errorf("lactate outside 0–%.0f mmol/L", lactate.MaxLactate)
 	}
 	return t, nil
-}
-
-func fmtW(v *float64) string {
-	if v == nil {
-		return "-"
-	}
-	return fmt.Sprintf("%.0f", *v)
-}
-
-func renderLactate(w io.Writer, out lactateOut) {
-	for i, t := range out.Tests {
-		if i > 0 {
-			fmt.Fprintln(w)
-		}
-		if len(t.Steps) > 0 {
-			name := strings.Join(strings.Fields(t.Athlete+" "+view.OrOpen(t.Date)), " ")
-			fmt.Fprintf(w, "Step test %s (%s): %d steps, baseline %.1f mmol/L (the lowest before the curve starts rising)\n",
-				name, t.File, len(t.Steps), t.BaselineMmol)
-			tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-			fmt.Fprintln(tw, "  method\tpower (W)\t95 % interval (W)\theart rate\tlactate (mmol/L)\tsource\tnote")
-			for _, th := range t.Thresholds {
-				iv, hr, la := "-", "-", "-"
-				if th.LowW != nil && th.HighW != nil {
-					iv = fmt.Sprintf("%.0f–%.0f", *th.LowW, *th.HighW)
-				}
-				if th.HeartRateBPM != nil {
-					hr = fmt.Sprintf("%.0f bpm", *th.HeartRateBPM)
-				}
-				if th.LactateMmol != nil {
-					la = fmt.Sprintf("%.1f", *th.LactateMmol)
-				}
-				fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t%s\n", th.Label, fmtW(th.PowerW), iv, hr, la, th.Source, th.Note)
-			}
-			tw.Flush()
-			fmt.Fprintln(w, "  (interval: bootstrap over the steps, for the methods fitted through all of them)")
-			for _, n := range t.Notes {
-				fmt.Fprintf(w, "  Note: %s\n", n)
-			}
-		} else {
-			fmt.Fprintln(w, "MLSS trials beside the field estimate")
-		}
-		if f := t.Field; f != nil {
-			fmt.Fprintf(w, "  Field estimate, %s to %s (%d rides): ", f.Window.From, f.Window.To, f.Rides)
-			if th := f.Threshold; th.Watts != nil {
-				fmt.Fprintf(w, "CP %.0f W (%.0f–%.0f, %s, %s)", *th.Watts, *th.LowW, *th.HighW, th.Confidence, th.Model)
-			} else {
-				fmt.Fprintf(w, "CP not estimated: %s", th.Reason)
-			}
-			if f.Rule20W != nil {
-				fmt.Fprintf(w, "; 95%% of best 20 min %.0f W (%s)", *f.Rule20W, f.Rule20Conf)
-			}
-			fmt.Fprintln(w)
-			for _, g := range t.Gaps {
-				if g.Field != "cp" {
-					continue
-				}
-				fmt.Fprintf(w, "    CP − %s: %+.0f W (%+.1f %%)", g.Method, g.DiffW, g.DiffPct)
-				if g.Note != "" {
-					fmt.Fprintf(w, "  %s", g.Note)
-				}
-				fmt.Fprintln(w)
-			}
-			fmt.Fprintln(w, "    (CP usually sits a little above MLSS: Pringle & Jones 2002)")
-		}
-	}
-	if len(out.Trials) > 0 {
-		if len(out.Tests) > 0 {
-			fmt.Fprintln(w)
-		}
-		fmt.Fprintln(w, "MLSS trials")
-		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-		fmt.Fprintln(tw, "  power (W)\tlactate 10 min\t30 min\trise\tresult\tfrom the ride\tsource")
-		for _, t := range out.Trials {
-			res := "fail"
-			if t.Pass {
-				res = "pass"
-			}
-			ride := "-"
-			if t.MeasuredW != nil {
-				ride = fmt.Sprintf("%.0f W, 30-s means vary %.1f %%", *t.MeasuredW, *t.CVPct)
-			}
-			if t.Wandered {
-				res += " (left out: " + t.Note + ")"
-			}
-			fmt.Fprintf(tw, "  %.0f\t%.1f\t%.1f\t%+.1f\t%s\t%s\t%s\n", t.PowerW, t.La10Mmol, t.La30Mmol, t.RiseMmol, res, ride, t.Source)
-		}
-		tw.Flush()
-		if m := out.MLSS; m != nil {
-			fmt.Fprintf(w, "  MLSS between %s and %s W (%s)\n", fmtW(m.PassW), fmtW(m.FailW), m.Rule)
-			for _, n := range m.Notes {
-				fmt.Fprintf(w, "  Note: %s\n", n)
-			}
-		}
-	}
-	if len(out.Shifts) > 0 {
-		fmt.Fprintln(w, "\nOver time")
-		for _, s := range out.Shifts {
-			fmt.Fprintf(w, "  %s → %s: %s\n", s.From, s.To, s.Message)
-		}
-	}
-	fmt.Fprintf(w, "\nCaution: %s\n", estimate.Caution)
-}
-
-func writeLactateCSV(w io.Writer, out lactateOut) error {
-	cw := csv.NewWriter(w)
-	cw.Write([]string{"athlete", "date", "test", "method", "power_w", "low_w", "high_w", "heart_rate_bpm", "source", "note"})
-	num := func(v *float64) string {
-		if v == nil {
-			return ""
-		}
-		return strconv.FormatFloat(*v, 'f', 1, 64)
-	}
-	for _, t := range out.Tests {
-		for _, th := range t.Thresholds {
-			cw.Write([]string{t.Athlete, t.Date, t.Test, th.Method, num(th.PowerW), num(th.LowW), num(th.HighW), num(th.HeartRateBPM), th.Source, th.Note})
-		}
-	}
-	if m := out.MLSS; m != nil {
-		cw.Write([]string{"", m.Date, "MLSS trials", lactate.MethodMLSS, num(m.MidW), num(m.PassW), num(m.FailW), "", "Heck et al. 1985; Beneke 2003", strings.Join(m.Notes, "; ")})
-	}
-	cw.Flush()
-	return cw.Error()
 }
 
 // lactateMethods are the lactate-based methods `compare` takes.

@@ -2,10 +2,8 @@ package main
 
 import (
 	"fmt"
-	"io"
 	"strconv"
 	"strings"
-	"text/tabwriter"
 
 	"github.com/sustain-cycling/sustain/estimate"
 	"github.com/sustain-cycling/sustain/ingest"
@@ -188,25 +186,6 @@ func trialsAction(c *cli.Context) error {
 			"w_prime_se_j": t.Fit.WPrimeSEJ, "cp_se_pct": t.CPSEPct, "w_prime_se_pct": t.WSEPct, "accepted": t.Accepted,
 			"problems": t.Problems, "caution": estimate.Caution})
 	}
-	renderTrials(w, es, t)
+	view.RenderTrials(w, es, t)
 	return nil
-}
-
-func renderTrials(w io.Writer, es []estimate.Effort, t estimate.Trials) {
-	fmt.Fprintln(w, "Multi-trial critical-power test (2-parameter model, Monod & Scherrer 1965)")
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	for _, e := range es {
-		fmt.Fprintln(tw, view.EffortRow(e.Point))
-	}
-	tw.Flush()
-	fmt.Fprintf(w, "\n  CP %.1f W ± %.1f (%.1f %%)   W′ %.1f kJ ± %.1f (%.0f %%)\n", t.Fit.CPW, t.Fit.CPSEW, t.CPSEPct, t.Fit.WPrimeJ/1000, t.Fit.WPrimeSEJ/1000, t.WSEPct)
-	if t.Accepted {
-		fmt.Fprintln(w, "  The fit meets the usual quality bar (CP within about 2–5 %, W′ within about 10 %; from memory of lab practice).")
-	} else {
-		fmt.Fprintln(w, "  The fit misses the usual quality bar (from memory of lab practice):")
-		for _, p := range t.Problems {
-			fmt.Fprintf(w, "  - %s\n", p)
-		}
-	}
-	fmt.Fprintf(w, "\nCaution: %s\n", estimate.Caution)
 }
