@@ -109,7 +109,7 @@ func compareAction(c *cli.Context) error {
 		return err
 	}
 	if p := c.String("plot"); p != "" {
-		if err := plotAgreement(p, pairs, methods[0]); err != nil {
+		if err := view.PlotAgreement(p, pairs, methods[0]); err != nil {
 			return fmt.Errorf("plot %s: %w", p, err)
 		}
 		if !c.Bool("json") && !c.Bool("csv") {

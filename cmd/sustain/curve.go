@@ -142,7 +142,7 @@ func curveAction(c *cli.Context) error {
 		return err
 	}
 	if p := c.String("plot"); p != "" && len(out.Points) > 0 {
-		if err := plotCurves(p, out, plotTitle("Best mean power", c.Args().Slice(), out.Window, out.Rides)); err != nil {
+		if err := view.PlotCurve(p, out, plotTitle("Best mean power", c.Args().Slice(), out.Window, out.Rides)); err != nil {
 			return fmt.Errorf("plot %s: %w", p, err)
 		}
 		if !c.Bool("json") && !c.Bool("csv") {

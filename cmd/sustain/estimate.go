@@ -2,7 +2,6 @@ package main
 
 import (
 	"fmt"
-	"math"
 	"strings"
 	"time"
 
@@ -129,7 +128,7 @@ func estimateAction(c *cli.Context) error {
 		reportSkipped(c.App.ErrWriter, out.Skipped)
 	}
 	if p := c.String("plot"); p != "" && len(rep.Curve.Points) > 0 {
-		if err := plotEstimate(p, rep, plotTitle("Power-duration fit", c.Args().Slice(), win, rep.Rides)); err != nil {
+		if err := view.PlotEstimate(p, rep, plotTitle("Power-duration fit", c.Args().Slice(), win, rep.Rides)); err != nil {
 			return fmt.Errorf("plot %s: %w", p, err)
 		}
 		if !c.Bool("json") {
@@ -140,15 +139,4 @@ func estimateAction(c *cli.Context) error {
 		return cli.Exit(fmt.Sprintf("no ride between %s and %s", view.OrOpen(win.From), view.OrOpen(win.To)), exitNothing)
 	}
 	return nothingRead(res)
-}
-
-// modelCurve samples a fit over the plotted durations.
-func modelCurve(f estimate.Fit, maxS float64) [][2]float64 {
-	var pts [][2]float64
-	for t := 1.0; t <= maxS; t *= 1.08 {
-		if p := f.Power(t); !math.IsNaN(p) && p > 0 {
-			pts = append(pts, [2]float64{t, p})
-		}
-	}
-	return pts
 }

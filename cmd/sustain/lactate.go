@@ -144,7 +144,7 @@ func lactateAction(c *cli.Context) error {
 	}
 	reportSkipped(c.App.ErrWriter, out.Skipped)
 	if p := c.String("plot"); p != "" && len(analyses) > 0 {
-		if err := plotLactate(p, analyses, bracket); err != nil {
+		if err := view.PlotLactate(p, analyses, bracket); err != nil {
 			return fmt.Errorf("plot %s: %w", p, err)
 		}
 		fmt.Fprintf(c.App.ErrWriter, "plot written to %s\n", p)

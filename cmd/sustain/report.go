@@ -2,10 +2,7 @@ package main
 
 import (
 	"bytes"
-	_ "embed"
-	"encoding/json"
 	"fmt"
-	"html/template"
 	"os"
 	"path/filepath"
 	"strings"
@@ -15,8 +12,6 @@ import (
 	"github.com/sustain-cycling/sustain/powerduration"
 	"github.com/sustain-cycling/sustain/view"
 	"github.com/urfave/cli/v2"
-	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/vg"
 )
 
 func reportCommand() *cli.Command {
@@ -35,42 +30,6 @@ func reportCommand() *cli.Command {
 		Flags:     flags,
 		Action:    reportAction,
 	}
-}
-
-// reportPage is what the page shows: the same results as estimate --json
-// and season --json (embedded in the page as they are), and the plots.
-type reportPage struct {
-	Name, Made, Version string
-	Estimate            view.Estimate
-	Season              view.Season
-	EstimateJSON        template.JS // estimate --json, as it is
-	SeasonJSON          template.JS // season --json, as it is
-	CurveSVG, SeasonSVG template.HTML
-	Efforts             []estimate.Effort
-	MassKG              float64
-	Caution             string
-}
-
-//go:embed report.html
-var reportHTML string
-
-var reportTemplate = template.Must(template.New("report").Funcs(template.FuncMap{
-	"w":     func(v *float64) string { return fmt.Sprintf("%.0f", deref(v)) },
-	"w1":    func(v float64) string { return fmt.Sprintf("%.1f", v) },
-	"kj":    func(v float64) string { return fmt.Sprintf("%.1f", v/1000) },
-	"wkg":   func(v *float64) string { return fmt.Sprintf("%.2f", deref(v)) },
-	"dur":   view.DurationLabel,
-	"clock": view.Clock,
-	"base":  func(p string) string { return filepath.Base(p) },
-	"span":  view.Span,
-	"deref": deref,
-}).Parse(reportHTML))
-
-func deref(v *float64) float64 {
-	if v == nil {
-		return 0
-	}
-	return *v
 }
 
 func reportAction(c *cli.Context) error {
@@ -105,7 +64,7 @@ func reportAction(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
-	page := reportPage{Name: c.String("name"), Made: time.Now().Format("2006-01-02"), Version: version(),
+	page := view.Page{Name: c.String("name"), Made: time.Now().Format("2006-01-02"), Version: version(),
 		Estimate: view.NewEstimate(rep, res.Skipped), Season: view.NewSeason(season, res.Skipped, len(res.Rides)),
 		MassKG: massKG, Caution: estimate.Caution}
 	page.Season.PerKG(massFunc(c, c.Args().Slice()))
@@ -117,44 +76,8 @@ func reportAction(c *cli.Context) error {
 	if page.Name == "" {
 		page.Name = filepath.Base(filepath.Clean(c.Args().First()))
 	}
-	for _, e := range rep.Efforts {
-		if e.Status == estimate.EffortUsed {
-			page.Efforts = append(page.Efforts, e)
-		}
-	}
-	ej, err := json.Marshal(page.Estimate) // HTML-safe: <, > and & are escaped
-	if err != nil {
-		return err
-	}
-	sj, err := json.Marshal(page.Season)
-	if err != nil {
-		return err
-	}
-	page.EstimateJSON, page.SeasonJSON = template.JS(ej), template.JS(sj)
-	if len(rep.Curve.Points) > 0 {
-		p, err := estimatePlot(rep, "Best mean power and the fits")
-		if err != nil {
-			return err
-		}
-		var svg bytes.Buffer
-		if err := writeTiles(&svg, true, []*plot.Plot{p}, 18*vg.Centimeter, 11*vg.Centimeter); err != nil {
-			return err
-		}
-		page.CurveSVG = template.HTML(svg.String()) // drawn by the plot library from numbers and fixed labels
-	}
-	if len(season.Windows) > 0 {
-		plots, err := seasonPlots(season, "Season: CP, W′ (and Pmax) by 42-day window", massFunc(c, c.Args().Slice()))
-		if err != nil {
-			return err
-		}
-		var svg bytes.Buffer
-		if err := writeTiles(&svg, true, plots, 18*vg.Centimeter, 16*vg.Centimeter); err != nil {
-			return err
-		}
-		page.SeasonSVG = template.HTML(svg.String())
-	}
 	var html bytes.Buffer
-	if err := reportTemplate.Execute(&html, page); err != nil {
+	if err := view.RenderPage(&html, page, rep, season, massFunc(c, c.Args().Slice())); err != nil {
 		return err
 	}
 	if err := os.WriteFile(out, html.Bytes(), 0o644); err != nil {

@@ -112,7 +112,7 @@ func writeSeason(c *cli.Context, res ingest.Result, rep estimate.SeasonReport, s
 	if p := c.String("plot"); p != "" && !anyEstimated(rep) {
 		fmt.Fprintf(c.App.ErrWriter, "no plot written to %s: no window had enough data for an estimate\n", p)
 	} else if p != "" {
-		if err := plotSeason(p, rep, title, massFunc(c, paths)); err != nil {
+		if err := view.PlotSeason(p, rep, title, massFunc(c, paths)); err != nil {
 			return fmt.Errorf("plot %s: %w", p, err)
 		}
 		if !c.Bool("json") {

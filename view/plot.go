@@ -1,8 +1,7 @@
-package main
+package view
 
 import (
 	"fmt"
-	"github.com/sustain-cycling/sustain/view"
 	"image/color"
 	"math"
 	"strconv"
@@ -56,12 +55,12 @@ func curveXYs(ps []powerduration.Point) plotter.XYs {
 	return xy
 }
 
-// niceTicks marks a linear axis at a round step (1, 2, 2.5 or 5 times a
+// NiceTicks marks a linear axis at a round step (1, 2, 2.5 or 5 times a
 // power of ten) giving 5 to 10 labelled ticks, each label written with the
 // decimals the step needs, so it reads exactly the value it stands at.
-type niceTicks struct{}
+type NiceTicks struct{}
 
-func (niceTicks) Ticks(lo, hi float64) []plot.Tick {
+func (NiceTicks) Ticks(lo, hi float64) []plot.Tick {
 	if !(hi > lo) || math.IsInf(hi-lo, 0) {
 		return []plot.Tick{{Value: lo, Label: strconv.FormatFloat(lo, 'f', -1, 64)}}
 	}
@@ -99,12 +98,12 @@ func niceStep(raw float64) (float64, int) {
 	return 10 * base, int(max(0, -exp-1))
 }
 
-// dateTicks marks a time axis (Unix seconds) at whole days, a round number
+// DateTicks marks a time axis (Unix seconds) at whole days, a round number
 // of days or weeks apart, labelled with the date; with the year when the
 // axis spans more than one.
-type dateTicks struct{}
+type DateTicks struct{}
 
-func (dateTicks) Ticks(lo, hi float64) []plot.Tick {
+func (DateTicks) Ticks(lo, hi float64) []plot.Tick {
 	const day = 86400.0
 	days := (hi - lo) / day
 	step := 1.0
@@ -141,7 +140,7 @@ func newCurvePlot(title string) *plot.Plot {
 	p.X.Scale = plot.LogScale{}
 	p.X.Tick.Marker = timeTicks{}
 	p.Y.Min = 0
-	p.Y.Tick.Marker = niceTicks{}
+	p.Y.Tick.Marker = NiceTicks{}
 	p.Legend.Top = true
 	p.Add(&plotter.Grid{Vertical: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)},
 		Horizontal: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)}})
@@ -166,14 +165,14 @@ func addLine(p *plot.Plot, xy plotter.XYs, label string, ink color.Color, dashed
 	return nil
 }
 
-func plotCurves(path string, out view.Curve, title string) error {
+func PlotCurve(path string, out Curve, title string) error {
 	p := newCurvePlot(title)
-	label := fmt.Sprintf("%s to %s", view.OrOpen(out.Window.From), view.OrOpen(out.Window.To))
+	label := fmt.Sprintf("%s to %s", OrOpen(out.Window.From), OrOpen(out.Window.To))
 	if err := addLine(p, curveXYs(out.Points), label, inkMain, false, 2); err != nil {
 		return err
 	}
 	if out.Compare != nil {
-		cl := fmt.Sprintf("%s to %s (compared)", view.OrOpen(out.Compare.Window.From), view.OrOpen(out.Compare.Window.To))
+		cl := fmt.Sprintf("%s to %s (compared)", OrOpen(out.Compare.Window.From), OrOpen(out.Compare.Window.To))
 		if err := addLine(p, curveXYs(out.Compare.Points), cl, inkCompare, true, 1.5); err != nil {
 			return err
 		}
@@ -183,8 +182,8 @@ func plotCurves(path string, out view.Curve, title string) error {
 	return p.Save(22*vg.Centimeter, 14*vg.Centimeter, path)
 }
 
-func plotEstimate(path string, rep estimate.Report, title string) error {
-	p, err := estimatePlot(rep, title)
+func PlotEstimate(path string, rep estimate.Report, title string) error {
+	p, err := EstimatePlot(rep, title)
 	if err != nil {
 		return err
 	}
@@ -193,7 +192,7 @@ func plotEstimate(path string, rep estimate.Report, title string) error {
 
 // estimatePlot is the curve, each fit over the durations it was fitted on,
 // the headline threshold and the efforts found.
-func estimatePlot(rep estimate.Report, title string) (*plot.Plot, error) {
+func EstimatePlot(rep estimate.Report, title string) (*plot.Plot, error) {
 	p := newCurvePlot(title)
 	if err := addLine(p, curveXYs(rep.Curve.Points), "best mean power", inkMain, false, 2); err != nil {
 		return nil, err
@@ -257,4 +256,15 @@ func estimatePlot(rep estimate.Report, title string) (*plot.Plot, error) {
 	p.X.Min, p.X.Max = 1, maxS
 	p.Y.Max = 1.15 * top
 	return p, nil
+}
+
+// modelCurve samples a fit over the plotted durations.
+func modelCurve(f estimate.Fit, maxS float64) [][2]float64 {
+	var pts [][2]float64
+	for t := 1.0; t <= maxS; t *= 1.08 {
+		if p := f.Power(t); !math.IsNaN(p) && p > 0 {
+			pts = append(pts, [2]float64{t, p})
+		}
+	}
+	return pts
 }

@@ -1,4 +1,4 @@
-package main
+package view
 
 import (
 	"fmt"
@@ -15,12 +15,12 @@ import (
 // plotLactate draws each step test's lactate against power, the
 // third-order polynomial of Dmax through its steps, every placed
 // threshold on the curve, and the MLSS bracket as two vertical lines.
-func plotLactate(path string, as []lactate.Analysis, br *lactate.Bracket) error {
+func PlotLactate(path string, as []lactate.Analysis, br *lactate.Bracket) error {
 	p := plot.New()
 	p.Title.Text = "Blood lactate against power"
 	p.X.Label.Text = "power (W)"
 	p.Y.Label.Text = "blood lactate (mmol/L)"
-	p.X.Tick.Marker, p.Y.Tick.Marker = niceTicks{}, niceTicks{}
+	p.X.Tick.Marker, p.Y.Tick.Marker = NiceTicks{}, NiceTicks{}
 	p.Y.Min = 0
 	p.Legend.Top, p.Legend.Left = true, true
 	p.Add(&plotter.Grid{Vertical: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)},

@@ -1,4 +1,4 @@
-package main
+package view
 
 import (
 	"fmt"
@@ -31,8 +31,8 @@ func gradeMark(conf string, ink color.Color) draw.GlyphStyle {
 	return g
 }
 
-func plotSeason(path string, rep estimate.SeasonReport, title string, mass func(date string) float64) error {
-	plots, err := seasonPlots(rep, title, mass)
+func PlotSeason(path string, rep estimate.SeasonReport, title string, mass func(date string) float64) error {
+	plots, err := SeasonPlots(rep, title, mass)
 	if err != nil {
 		return err
 	}
@@ -42,7 +42,7 @@ func plotSeason(path string, rep estimate.SeasonReport, title string, mass func(
 // seasonPlots are the season's panels: CP, W′ and (for a model with it)
 // Pmax against the windows' ends, with 95 % bars and grade marks; with a
 // mass by date (mass, nil for none), CP per kilogram too.
-func seasonPlots(rep estimate.SeasonReport, title string, mass func(date string) float64) ([]*plot.Plot, error) {
+func SeasonPlots(rep estimate.SeasonReport, title string, mass func(date string) float64) ([]*plot.Plot, error) {
 	type series struct {
 		name  string
 		ink   color.Color
@@ -72,8 +72,8 @@ func seasonPlots(rep estimate.SeasonReport, title string, mass func(date string)
 			p.Title.Text = title
 		}
 		p.Y.Label.Text = s.name
-		p.X.Tick.Marker = dateTicks{}
-		p.Y.Tick.Marker = niceTicks{}
+		p.X.Tick.Marker = DateTicks{}
+		p.Y.Tick.Marker = NiceTicks{}
 		p.Add(&plotter.Grid{Vertical: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)},
 			Horizontal: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)}})
 		var lines []plotter.XYs // broken where a window was not estimated
@@ -148,7 +148,7 @@ func saveTiles(path string, plots []*plot.Plot, width, height vg.Length) error {
 	if err != nil {
 		return err
 	}
-	if err := writeTiles(f, strings.ToLower(filepath.Ext(path)) == ".svg", plots, width, height); err != nil {
+	if err := WriteTiles(f, strings.ToLower(filepath.Ext(path)) == ".svg", plots, width, height); err != nil {
 		f.Close()
 		return err
 	}
@@ -156,7 +156,7 @@ func saveTiles(path string, plots []*plot.Plot, width, height vg.Length) error {
 }
 
 // writeTiles draws plots one above the other, as SVG or PNG, to w.
-func writeTiles(w io.Writer, svg bool, plots []*plot.Plot, width, height vg.Length) error {
+func WriteTiles(w io.Writer, svg bool, plots []*plot.Plot, width, height vg.Length) error {
 	var canvas vg.CanvasWriterTo
 	if svg { // the fonts embedded: the text keeps its size in any browser
 		canvas = vgsvg.NewWith(vgsvg.UseWH(width, height), vgsvg.EmbedFonts(true))
@@ -179,7 +179,7 @@ func writeTiles(w io.Writer, svg bool, plots []*plot.Plot, width, height vg.Leng
 // plotAgreement draws a Bland–Altman plot for each pair with the first
 // method: each subject's difference against its mean, the bias and the
 // 95 % limits of agreement.
-func plotAgreement(path string, pairs []estimate.PairAgreement, first string) error {
+func PlotAgreement(path string, pairs []estimate.PairAgreement, first string) error {
 	var plots []*plot.Plot
 	for _, pa := range pairs {
 		if pa.A != first {
@@ -189,7 +189,7 @@ func plotAgreement(path string, pairs []estimate.PairAgreement, first string) er
 		p.Title.Text = fmt.Sprintf("%s − %s: bias %+.1f W, limits %+.1f to %+.1f W (n = %d)", pa.A, pa.B, pa.Bias, pa.LowerL, pa.UpperL, pa.N)
 		p.X.Label.Text = fmt.Sprintf("mean of %s and %s (W)", pa.A, pa.B)
 		p.Y.Label.Text = "difference (W)"
-		p.X.Tick.Marker, p.Y.Tick.Marker = niceTicks{}, niceTicks{}
+		p.X.Tick.Marker, p.Y.Tick.Marker = NiceTicks{}, NiceTicks{}
 		p.Add(&plotter.Grid{Vertical: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)},
 			Horizontal: draw.LineStyle{Color: inkGrid, Width: vg.Points(0.5)}})
 		if pa.N < 2 {

@@ -1,7 +1,6 @@
-package main
+package view
 
 import (
-	"github.com/sustain-cycling/sustain/view"
 	"math"
 	"strconv"
 	"strings"
@@ -15,7 +14,7 @@ import (
 // 17.5, not 18), 5 to 10 labelled ticks an axis, whatever the range.
 func TestTickLabelsAreExact(t *testing.T) {
 	for _, r := range [][2]float64{{14, 18.3}, {3.2, 5.1}, {0, 1}, {18, 25}, {250, 320}, {0, 1250}, {-6.7, 4.3}, {0.001, 0.0042}, {265, 266}, {0, 21000}, {150, 330}, {0.2, 0.45}} {
-		ts := niceTicks{}.Ticks(r[0], r[1])
+		ts := NiceTicks{}.Ticks(r[0], r[1])
 		labelled := 0
 		for _, tk := range ts {
 			if tk.Label == "" {
@@ -54,7 +53,7 @@ func TestDateTicks(t *testing.T) {
 		from, to string
 		layout   string
 	}{{"2026-03-02", "2026-06-21", "Jan 2"}, {"2025-10-01", "2027-02-01", "Jan 2 2006"}, {"2026-05-01", "2026-05-09", "Jan 2"}} {
-		ts := dateTicks{}.Ticks(day(c.from), day(c.to))
+		ts := DateTicks{}.Ticks(day(c.from), day(c.to))
 		if len(ts) < 3 || len(ts) > 10 {
 			t.Errorf("%v: %d ticks", c, len(ts))
 		}
@@ -71,15 +70,15 @@ func TestDateTicks(t *testing.T) {
 // with their nouns, an open window reads in words.
 func TestSmallText(t *testing.T) {
 	for share, want := range map[float64]string{1: "100%", 0.9989: "99.8%", 0.995: "99.5%", 0.994: "99%", 0: "0%", 0.001: "0.1%", 0.5: "50%"} {
-		if got := view.Percent(share); got != want {
+		if got := Percent(share); got != want {
 			t.Errorf("percent(%v) = %q, want %q", share, got, want)
 		}
 	}
-	if view.Count(1, "ride") != "1 ride" || view.Count(0, "ride") != "0 rides" || view.Count(3, "window") != "3 windows" {
+	if Count(1, "ride") != "1 ride" || Count(0, "ride") != "0 rides" || Count(3, "window") != "3 windows" {
 		t.Error("count")
 	}
 	for w, want := range map[[2]string]string{{"", ""}: "on every date", {"2026-01-01", ""}: "from 2026-01-01 on", {"", "2026-02-01"}: "up to 2026-02-01"} {
-		if got := view.Span(powerduration.Window{From: w[0], To: w[1]}); got != want {
+		if got := Span(powerduration.Window{From: w[0], To: w[1]}); got != want {
 			t.Errorf("span %v = %q", w, got)
 		}
 	}
