@@ -57,7 +57,43 @@ func pairR(p estimate.PairAgreement) *float64 {
 	return Finite(p.R)
 }
 
-func NewComparison(subjects []estimate.Subject, pairs []estimate.PairAgreement, skipped []ingest.Skipped) map[string]any {
+// Subject is a subject of a comparison: each method's threshold, and with
+// a mass (masses, by subject: the mass in force at the subject's window's
+// end) per kilogram.
+type Subject struct {
+	Name      string                     `json:"name"`
+	MassKG    *float64                   `json:"mass_kg,omitempty"`
+	Estimates map[string]SubjectEstimate `json:"estimates"`
+}
+
+// SubjectEstimate is one method's threshold for one subject.
+type SubjectEstimate struct {
+	Watts      float64  `json:"watts"`
+	WPerKG     *float64 `json:"w_per_kg,omitempty"`
+	Confidence string   `json:"confidence"`
+}
+
+func subjectsOf(subjects []estimate.Subject, masses map[string]float64) []Subject {
+	out := []Subject{}
+	for _, s := range subjects {
+		j := Subject{Name: s.Name, Estimates: map[string]SubjectEstimate{}}
+		kg := masses[s.Name]
+		if kg > 0 {
+			j.MassKG = Ptr(kg)
+		}
+		for m, e := range s.Estimates {
+			se := SubjectEstimate{Watts: e.Watts, Confidence: e.Confidence}
+			if kg > 0 {
+				se.WPerKG = Ptr(e.Watts / kg)
+			}
+			j.Estimates[m] = se
+		}
+		out = append(out, j)
+	}
+	return out
+}
+
+func NewComparison(subjects []estimate.Subject, pairs []estimate.PairAgreement, skipped []ingest.Skipped, masses map[string]float64) map[string]any {
 	ps := []Pair{}
 	for _, p := range pairs {
 		j := Pair{A: p.A, B: p.B, N: p.N, LeftOut: p.LeftOut, Note: pairNote(p)}
@@ -69,19 +105,16 @@ func NewComparison(subjects []estimate.Subject, pairs []estimate.PairAgreement, 
 		}
 		ps = append(ps, j)
 	}
-	if subjects == nil {
-		subjects = []estimate.Subject{}
-	}
-	return map[string]any{"subjects": subjects, "pairs": ps, "skipped": NonNil(skipped)}
+	return map[string]any{"subjects": subjectsOf(subjects, masses), "pairs": ps, "skipped": NonNil(skipped)}
 }
 
 // writeCompareCSV writes one table of two kinds of rows: each subject's
 // estimate by each method (table "estimate"), then each pair's agreement
 // (table "agreement"); a column a row kind does not have is empty.
-func WriteComparisonCSV(w io.Writer, subjects []estimate.Subject, pairs []estimate.PairAgreement, methods []string) error {
+func WriteComparisonCSV(w io.Writer, subjects []estimate.Subject, pairs []estimate.PairAgreement, methods []string, masses map[string]float64) error {
 	cw := csv.NewWriter(w)
 	cw.Write([]string{"table", "subject", "method", "watts", "confidence",
-		"a", "b", "n", "bias_w", "sd_w", "lower_limit_w", "upper_limit_w", "r", "left_out", "note"})
+		"a", "b", "n", "bias_w", "sd_w", "lower_limit_w", "upper_limit_w", "r", "left_out", "note", "mass_kg", "w_per_kg"})
 	num := func(v *float64) string {
 		if v == nil {
 			return ""
@@ -91,15 +124,19 @@ func WriteComparisonCSV(w io.Writer, subjects []estimate.Subject, pairs []estima
 	for _, s := range subjects {
 		for _, m := range methods {
 			if e, ok := s.Estimates[m]; ok {
+				kg, perKG := "", ""
+				if m := masses[s.Name]; m > 0 {
+					kg, perKG = strconv.FormatFloat(m, 'f', 1, 64), strconv.FormatFloat(e.Watts/m, 'f', 3, 64)
+				}
 				cw.Write([]string{"estimate", s.Name, m, strconv.FormatFloat(e.Watts, 'f', 1, 64), e.Confidence,
-					"", "", "", "", "", "", "", "", "", ""})
+					"", "", "", "", "", "", "", "", "", "", kg, perKG})
 			}
 		}
 	}
 	for _, p := range pairs {
-		j := NewComparison(nil, []estimate.PairAgreement{p}, nil)["pairs"].([]Pair)[0]
+		j := NewComparison(nil, []estimate.PairAgreement{p}, nil, nil)["pairs"].([]Pair)[0]
 		cw.Write([]string{"agreement", "", "", "", "", j.A, j.B, strconv.Itoa(j.N), num(j.BiasW), num(j.SDW),
-			num(j.LowerW), num(j.UpperW), num(j.R), strings.Join(j.LeftOut, "; "), j.Note})
+			num(j.LowerW), num(j.UpperW), num(j.R), strings.Join(j.LeftOut, "; "), j.Note, "", ""})
 	}
 	cw.Flush()
 	return cw.Error()

@@ -136,7 +136,7 @@ func TestComparisonRenderingsAgree(t *testing.T) {
 		t.Fatal(err)
 	}
 	pairs := []estimate.PairAgreement{{A: "cp2", B: "20min", Agreement: ag}}
-	js, _ := json.Marshal(NewComparison(subjects, pairs, nil))
+	js, _ := json.Marshal(NewComparison(subjects, pairs, nil, map[string]float64{"s0": 64}))
 	var back struct {
 		Pairs []struct {
 			BiasW float64 `json:"bias_w"`
@@ -148,9 +148,12 @@ func TestComparisonRenderingsAgree(t *testing.T) {
 	}
 	var text, csvOut bytes.Buffer
 	RenderComparison(&text, "athletes", subjects, pairs, []string{"cp2", "20min"}, nil)
-	WriteComparisonCSV(&csvOut, subjects, pairs, []string{"cp2", "20min"})
+	WriteComparisonCSV(&csvOut, subjects, pairs, []string{"cp2", "20min"}, map[string]float64{"s0": 64})
 	if want := fmt.Sprintf("cp2 − 20min  6  %+.1f", ag.Bias); !strings.Contains(text.String(), want) {
 		t.Errorf("the table lacks %q:\n%s", want, text.String())
+	}
+	if !strings.Contains(string(js), `"w_per_kg":3.90625`) || !strings.Contains(csvOut.String(), "estimate,s0,cp2,250.0,high,,,,,,,,,,,64.0,3.906") {
+		t.Errorf("per kilogram: json %s\ncsv %s", js, csvOut.String())
 	}
 	if want := fmt.Sprintf("agreement,,,,,cp2,20min,6,%.2f,", ag.Bias); !strings.Contains(csvOut.String(), want) {
 		t.Errorf("the csv lacks %q:\n%s", want, csvOut.String())

@@ -67,6 +67,7 @@ func compareAction(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
+	masses := map[string]float64{} // each subject's mass at its window's end, when known
 	if members != nil {
 		kind = "athletes"
 		for _, m := range members {
@@ -79,8 +80,12 @@ func compareAction(c *cli.Context) error {
 			if len(res.Rides) == 0 {
 				continue
 			}
-			rep := estimate.Estimate(res.Rides, curves, powerduration.LastDays(powerduration.Newest(curves), days), eo)
+			win := powerduration.LastDays(powerduration.Newest(curves), days)
+			rep := estimate.Estimate(res.Rides, curves, win, eo)
 			subjects = append(subjects, estimate.Subject{Name: n, Estimates: lab.add(estimate.ByMethod(rep), n, powerduration.Window{})})
+			if masses[n], err = massOn(c, []string{m.Folder}, win.To); err != nil {
+				return err
+			}
 		}
 	} else {
 		res, curves, err := scan(c)
@@ -90,7 +95,11 @@ func compareAction(c *cli.Context) error {
 		skipped = append(skipped, res.Skipped...)
 		for _, w := range powerduration.Consecutive(curves, days) {
 			if rep := estimate.Estimate(res.Rides, curves, w, eo); rep.Rides > 0 {
-				subjects = append(subjects, estimate.Subject{Name: w.From + "–" + w.To, Estimates: lab.add(estimate.ByMethod(rep), "", w)})
+				name := w.From + "–" + w.To
+				subjects = append(subjects, estimate.Subject{Name: name, Estimates: lab.add(estimate.ByMethod(rep), "", w)})
+				if masses[name], err = massOn(c, c.Args().Slice(), w.To); err != nil {
+					return err
+				}
 			}
 		}
 	}
@@ -98,9 +107,9 @@ func compareAction(c *cli.Context) error {
 	w := c.App.Writer
 	switch {
 	case c.Bool("json"):
-		err = view.WriteJSON(w, view.NewComparison(subjects, pairs, skipped))
+		err = view.WriteJSON(w, view.NewComparison(subjects, pairs, skipped, masses))
 	case c.Bool("csv"):
-		err = view.WriteComparisonCSV(w, subjects, pairs, methods)
+		err = view.WriteComparisonCSV(w, subjects, pairs, methods, masses)
 	default:
 		view.RenderComparison(w, kind, subjects, pairs, methods, skipped)
 		reportSkipped(c.App.ErrWriter, skipped)
