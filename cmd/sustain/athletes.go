@@ -5,6 +5,11 @@ import (
 	"github.com/urfave/cli/v2"
 )
 
+// massFlag is the rider's mass for one run (it overrides an athletes file).
+func massFlag() cli.Flag {
+	return &cli.Float64Flag{Name: "mass", Usage: "rider mass in kg, to add W/kg (overrides --athletes for this run)"}
+}
+
 // athletesFile is the --athletes file, read once a run; ok is false when
 // none was named.
 func athletesFile(c *cli.Context) (f athletes.File, ok bool, err error) {

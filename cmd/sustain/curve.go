@@ -60,7 +60,7 @@ func curveCommand() *cli.Command {
 		&cli.BoolFlag{Name: "csv", Usage: "print one CSV row per point of the curve"},
 		&cli.BoolFlag{Name: "per-ride", Usage: "print each ride's curve as one line of JSON (the map step of a batch job)"},
 		&cli.BoolFlag{Name: "reduce", Usage: "read the paths as files of --per-ride lines instead of ride files (the reduce step)"},
-		&cli.Float64Flag{Name: "mass", Usage: "rider mass in kg, to add W/kg"},
+		massFlag(),
 		&cli.StringFlag{Name: "plot", Usage: "write the curve to FILE.png or FILE.svg"},
 		forceFlag(),
 		&cli.StringFlag{Name: "compare-from", Usage: "first date of a second window to compare with (before/after a block)"},
@@ -117,7 +117,15 @@ func curveAction(c *cli.Context) error {
 		return err
 	}
 	inWin := powerduration.InWindow(curves, win)
-	out := view.Curve{Window: win, Rides: len(inWin), Skipped: view.NonNil(res.Skipped), MassKG: c.Float64("mass"),
+	end := win.To
+	if end == "" {
+		end = powerduration.Newest(inWin)
+	}
+	massKG, err := massOn(c, c.Args().Slice(), end) // the mass at the window's end
+	if err != nil {
+		return err
+	}
+	out := view.Curve{Window: win, Rides: len(inWin), Skipped: view.NonNil(res.Skipped), MassKG: massKG,
 		Points: powerduration.BestOf(inWin).Points}
 	if cf, ct := c.String("compare-from"), c.String("compare-to"); cf != "" || ct != "" {
 		cw := powerduration.Window{From: cf, To: ct}

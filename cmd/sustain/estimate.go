@@ -74,7 +74,7 @@ func estimateCommand() *cli.Command {
 	flags := append(ingestFlags(), windowFlags()...)
 	flags = append(flags, estimateFlags()...)
 	flags = append(flags,
-		&cli.Float64Flag{Name: "mass", Usage: "rider mass in kg, to add W/kg"},
+		massFlag(),
 		&cli.StringFlag{Name: "plot", Usage: "write the curve, each model's fit and the efforts used to FILE.png or FILE.svg"},
 		forceFlag(),
 	)

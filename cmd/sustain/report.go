@@ -20,7 +20,7 @@ func reportCommand() *cli.Command {
 	flags = append(flags,
 		&cli.StringFlag{Name: "out", Required: true, Usage: "the page to write, FILE.html (never a file that exists unless --force, never inside a folder being read)"},
 		&cli.StringFlag{Name: "name", Usage: "the athlete's name on the page (default: the folder's name)"},
-		&cli.Float64Flag{Name: "mass", Usage: "rider mass in kg, to add W/kg"},
+		massFlag(),
 		forceFlag(),
 	)
 	return &cli.Command{
