@@ -217,6 +217,12 @@ func RenderInspection(w io.Writer, res ingest.Result) {
 	} else {
 		fmt.Fprintf(w, "%s read, %s skipped\n", Count(len(res.Rides), "ride"), Count(len(res.Skipped), "file"))
 	}
+	for _, d := range res.Duplicates {
+		fmt.Fprintf(w, "duplicate %s: left out, the same ride as %s (%s)\n", Shown(d.File), Shown(d.Kept), d.Why)
+	}
+	for _, a := range archiveCounts(res) {
+		fmt.Fprintf(w, "archive %s: %s, %d skipped, %d duplicates\n", Shown(a.Archive), Count(a.Rides, "ride"), a.Skipped, a.Duplicates)
+	}
 }
 
 // percent writes a share as a whole percentage, but never rounds a share

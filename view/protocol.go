@@ -26,3 +26,21 @@ func RenderTrials(w io.Writer, es []estimate.Effort, t estimate.Trials) {
 	}
 	fmt.Fprintf(w, "\nCaution: %s\n", estimate.Caution)
 }
+
+// RenderAllOut writes a 3-minute all-out test of the ride in file (dated
+// date): its end-test power and work above it, and whether it was all out.
+func RenderAllOut(w io.Writer, file, date string, a estimate.AllOut) {
+	fmt.Fprintf(w, "3-minute all-out test, %s (%s), from %s\n\n", Shown(file), date, Clock(a.StartS))
+	fmt.Fprintf(w, "  end-test power (mean of the last 30 s, estimates CP)   %.0f W\n", a.EndPowerW)
+	fmt.Fprintf(w, "  work above end-test power (estimates W′)              %.1f kJ\n", a.WorkAboveJ/1000)
+	fmt.Fprintf(w, "  mean power %.0f W, first 30 s %.0f W, peak %.0f W\n", a.MeanW, a.First30W, a.PeakW)
+	if a.WasAllOut {
+		fmt.Fprintln(w, "\n  The effort looks all-out: a fast start well above the end, no coasting, no late rise.")
+	} else {
+		fmt.Fprintln(w, "\n  This was not an all-out effort, so these figures do not estimate CP and W′:")
+		for _, p := range a.Problems {
+			fmt.Fprintf(w, "  - %s\n", p)
+		}
+	}
+	fmt.Fprintf(w, "\nMethod: Vanhatalo, Doust & Burnley (2007). Caution: %s\n", estimate.Caution)
+}

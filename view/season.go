@@ -193,3 +193,45 @@ func (out *Season) PerKG(mass func(date string) float64) {
 		}
 	}
 }
+
+// SquadRow is one athlete of a squad: the threshold of their latest
+// window and how CP moved over the last six weeks.
+type SquadRow struct {
+	Athlete     string               `json:"athlete"`
+	Rides       int                  `json:"rides"`
+	Skipped     []ingest.Skipped     `json:"skipped"`
+	LastRide    string               `json:"last_ride"`
+	Threshold   *Threshold           `json:"threshold"`
+	Change6wW   *float64             `json:"cp_change_6w_w"`
+	Significant bool                 `json:"cp_change_significant"`
+	Window      powerduration.Window `json:"window"`
+}
+
+// RenderSquad writes a squad's table, a row per athlete; detail is the
+// command that shows one athlete's season.
+func RenderSquad(w io.Writer, squad string, windowDays int, rows []SquadRow, detail string) {
+	fmt.Fprintf(w, "Squad %s: %s; threshold from each athlete's latest %d-day window\n\n", squad, Count(len(rows), "athlete"), windowDays)
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "athlete\tthreshold (W)\tconfidence\tCP change, 6 weeks\trides\tlast ride\t")
+	for _, r := range rows {
+		th, conf, ch := "-", "-", "-"
+		if t := r.Threshold; t != nil && t.Watts != nil {
+			th = fmt.Sprintf("%.0f (%.0f–%.0f, %s)", *t.Watts, *t.LowW, *t.HighW, t.Model)
+			if t.WattsPerKG != nil {
+				th += fmt.Sprintf(", %.2f W/kg", *t.WattsPerKG)
+			}
+			conf = t.Confidence
+		} else if t != nil {
+			th = "not estimated"
+		}
+		if r.Change6wW != nil {
+			ch = fmt.Sprintf("%+.0f W", *r.Change6wW)
+			if !r.Significant {
+				ch += " (within uncertainty)"
+			}
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%s\t\n", r.Athlete, th, conf, ch, r.Rides, OrOpen(r.LastRide))
+	}
+	tw.Flush()
+	fmt.Fprintf(w, "\nDetail for one athlete: %s\n", detail)
+}

@@ -36,12 +36,6 @@ func inspectCommand() *cli.Command {
 			} else {
 				view.RenderInspection(c.App.Writer, res)
 				listSkipped(c.App.ErrWriter, res.Skipped) // inspect lists every file
-				for _, d := range res.Duplicates {
-					fmt.Fprintf(c.App.Writer, "duplicate %s: left out, the same ride as %s (%s)\n", view.Shown(d.File), view.Shown(d.Kept), d.Why)
-				}
-				for _, a := range out.Archives {
-					fmt.Fprintf(c.App.Writer, "archive %s: %s, %d skipped, %d duplicates\n", view.Shown(a.Archive), view.Count(a.Rides, "ride"), a.Skipped, a.Duplicates)
-				}
 				if out.Store != nil {
 					fmt.Fprintf(c.App.ErrWriter, "store %s: %d files answered from it, %d decoded\n", out.Store.Path, out.Store.Cached, out.Store.Decoded)
 				}

@@ -117,19 +117,7 @@ func allOutAction(c *cli.Context) error {
 	if c.Bool("json") {
 		return view.WriteJSON(w, map[string]any{"file": r.File, "date": r.Date(), "test": a, "caution": estimate.Caution})
 	}
-	fmt.Fprintf(w, "3-minute all-out test, %s (%s), from %s\n\n", view.Shown(r.File), r.Date(), view.Clock(a.StartS))
-	fmt.Fprintf(w, "  end-test power (mean of the last 30 s, estimates CP)   %.0f W\n", a.EndPowerW)
-	fmt.Fprintf(w, "  work above end-test power (estimates W′)              %.1f kJ\n", a.WorkAboveJ/1000)
-	fmt.Fprintf(w, "  mean power %.0f W, first 30 s %.0f W, peak %.0f W\n", a.MeanW, a.First30W, a.PeakW)
-	if a.WasAllOut {
-		fmt.Fprintln(w, "\n  The effort looks all-out: a fast start well above the end, no coasting, no late rise.")
-	} else {
-		fmt.Fprintln(w, "\n  This was not an all-out effort, so these figures do not estimate CP and W′:")
-		for _, p := range a.Problems {
-			fmt.Fprintf(w, "  - %s\n", p)
-		}
-	}
-	fmt.Fprintf(w, "\nMethod: Vanhatalo, Doust & Burnley (2007). Caution: %s\n", estimate.Caution)
+	view.RenderAllOut(w, r.File, r.Date(), a)
 	return nil
 }
 

@@ -3,7 +3,6 @@ package main
 import (
 	"fmt"
 	"strings"
-	"text/tabwriter"
 
 	"github.com/sustain-cycling/sustain/estimate"
 	"github.com/sustain-cycling/sustain/ingest"
@@ -133,16 +132,6 @@ func anyEstimated(rep estimate.SeasonReport) bool {
 }
 
 // squad: one row per athlete, or one athlete's season with --athlete.
-type athleteRow struct {
-	Athlete     string               `json:"athlete"`
-	Rides       int                  `json:"rides"`
-	Skipped     []ingest.Skipped     `json:"skipped"`
-	LastRide    string               `json:"last_ride"`
-	Threshold   *view.Threshold      `json:"threshold"`
-	Change6wW   *float64             `json:"cp_change_6w_w"`
-	Significant bool                 `json:"cp_change_significant"`
-	Window      powerduration.Window `json:"window"`
-}
 
 func squadAction(c *cli.Context, so estimate.SeasonOptions, members []member) error {
 	dir := c.Args().First()
@@ -170,7 +159,7 @@ func squadAction(c *cli.Context, so estimate.SeasonOptions, members []member) er
 	if c.String("plot") != "" {
 		return usageError{"--plot draws one athlete's season: add --athlete NAME"}
 	}
-	var rows []athleteRow
+	var rows []view.SquadRow
 	anyRide := false
 	for _, m := range members {
 		n := m.Name
@@ -178,7 +167,7 @@ func squadAction(c *cli.Context, so estimate.SeasonOptions, members []member) er
 		if err != nil {
 			return err
 		}
-		row := athleteRow{Athlete: n, Rides: len(res.Rides), Skipped: view.NonNil(res.Skipped), LastRide: lastDate(res)}
+		row := view.SquadRow{Athlete: n, Rides: len(res.Rides), Skipped: view.NonNil(res.Skipped), LastRide: lastDate(res)}
 		if len(res.Rides) > 0 {
 			anyRide = true
 			rep := estimate.Season(res.Rides, curves, so)
@@ -202,30 +191,11 @@ func squadAction(c *cli.Context, so estimate.SeasonOptions, members []member) er
 			return err
 		}
 	} else {
-		fmt.Fprintf(w, "Squad %s: %s; threshold from each athlete's latest %d-day window\n\n", dir, view.Count(len(rows), "athlete"), so.WindowDays)
-		tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-		fmt.Fprintln(tw, "athlete\tthreshold (W)\tconfidence\tCP change, 6 weeks\trides\tlast ride\t")
-		for _, r := range rows {
-			th, conf, ch := "-", "-", "-"
-			if t := r.Threshold; t != nil && t.Watts != nil {
-				th = fmt.Sprintf("%.0f (%.0f–%.0f, %s)", *t.Watts, *t.LowW, *t.HighW, t.Model)
-				if t.WattsPerKG != nil {
-					th += fmt.Sprintf(", %.2f W/kg", *t.WattsPerKG)
-				}
-				conf = t.Confidence
-			} else if t != nil {
-				th = "not estimated"
-			}
-			if r.Change6wW != nil {
-				ch = fmt.Sprintf("%+.0f W", *r.Change6wW)
-				if !r.Significant {
-					ch += " (within uncertainty)"
-				}
-			}
-			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%s\t\n", r.Athlete, th, conf, ch, r.Rides, view.OrOpen(r.LastRide))
+		detail := "sustain season " + dir + " --squad --athlete NAME"
+		if c.String("athletes") != "" && c.NArg() == 0 {
+			detail = "sustain season --athletes " + c.String("athletes") + " --athlete NAME"
 		}
-		tw.Flush()
-		fmt.Fprintf(w, "\nDetail for one athlete: sustain season %s --athlete NAME\n", dir)
+		view.RenderSquad(w, dir, so.WindowDays, rows, detail)
 	}
 	if !anyRide {
 		return cli.Exit("no ride could be read for any athlete", exitNothing)

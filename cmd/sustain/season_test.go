@@ -155,8 +155,8 @@ func TestSquadIsDeclared(t *testing.T) {
 		t.Error("a rider's folders were taken for a squad")
 	}
 	code, out, _ = runCmd(t, "season", dir, "--squad", "--no-store")
-	if code != exitOK || !strings.Contains(out, "2026-spring") || !strings.Contains(out, "2026-summer") {
-		t.Errorf("declared a squad: exit %d\n%s", code, out)
+	if code != exitOK || !strings.Contains(out, "2026-spring") || !strings.Contains(out, "2026-summer") || !strings.Contains(out, "--squad --athlete NAME") {
+		t.Errorf("declared a squad (and how to see one athlete): exit %d\n%s", code, out)
 	}
 	loose := filepath.Join(dir, "one.csv")
 	os.WriteFile(loose, []byte("time,power\n0,200\n1,210\n"), 0o644)
