@@ -144,6 +144,9 @@ type Report struct {
 	Warnings  []Warning
 	Advice    Advice
 	Audit     []AuditRide
+	// AuditForm is the form of W′ balance the audit replays: "integral"
+	// (Skiba et al. 2012) or "differential" (2015).
+	AuditForm string
 }
 
 // Estimate fits the models to the maximal efforts among the rides within
@@ -178,7 +181,10 @@ func Estimate(rides []ingest.Ride, curves []powerduration.RideCurve, w powerdura
 		inCurves = append(inCurves, curves[i])
 		effortCurves = append(effortCurves, ec)
 	}
-	rep := Report{Window: w, Rides: len(inRides), Failed: map[string]string{}}
+	rep := Report{Window: w, Rides: len(inRides), Failed: map[string]string{}, AuditForm: "integral"}
+	if opts.Differential {
+		rep.AuditForm = "differential"
+	}
 	rep.Curve = powerduration.BestOf(inCurves)
 	if len(rep.Curve.Points) == 0 {
 		rep.Warnings = append(rep.Warnings, Warning{WarnThinData, "No rides in this window."})

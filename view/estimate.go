@@ -114,7 +114,7 @@ var AuditFormText = map[string]string{
 func NewEstimate(rep estimate.Report, skipped []ingest.Skipped) Estimate {
 	out := Estimate{Window: rep.Window, Rides: rep.Rides, Skipped: NonNil(skipped), Threshold: ThresholdOf(rep.Threshold),
 		Models: []Model{}, Failed: []Failed{}, Rules: rep.Rules, Warnings: rep.Warnings,
-		Advice: Advice{rep.Advice, estimate.Caution}, Audit: rep.Audit, Efforts: rep.Efforts}
+		Advice: Advice{rep.Advice, estimate.Caution}, Audit: rep.Audit, AuditForm: rep.AuditForm, Efforts: rep.Efforts}
 	for _, f := range rep.Models {
 		m := Model{Model: f.Model, CPW: f.CPW, WPrimeJ: f.WPrimeJ, CPSEW: f.CPSEW, WPrimeSEJ: f.WPrimeSEJ,
 			RMSEW: f.RMSEW, Conf: f.Confidence, Reasons: f.Reasons, Efforts: f.Efforts}

@@ -114,10 +114,6 @@ func estimateAction(c *cli.Context) error {
 		return err
 	}
 	out.Threshold.PerKG(massKG)
-	out.AuditForm = "integral"
-	if opts.Differential {
-		out.AuditForm = "differential"
-	}
 	w := c.App.Writer
 	if c.Bool("json") {
 		if err := view.WriteJSON(w, out); err != nil {

@@ -69,10 +69,6 @@ func reportAction(c *cli.Context) error {
 		MassKG: massKG, Caution: estimate.Caution}
 	page.Season.PerKG(massFunc(c, c.Args().Slice()))
 	page.Estimate.Threshold.PerKG(page.MassKG)
-	page.Estimate.AuditForm = "integral"
-	if opts.Differential {
-		page.Estimate.AuditForm = "differential"
-	}
 	if page.Name == "" {
 		page.Name = filepath.Base(filepath.Clean(c.Args().First()))
 	}
