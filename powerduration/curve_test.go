@@ -149,6 +149,13 @@ func TestMeanMaxShapesMatchBruteForce(t *testing.T) {
 	for _, shape := range rideShapes {
 		p := shape.power()[:4100]
 		checkAgainstOracle(t, shape.name, p)
+		// and with the block scans in Go where the machine has the
+		// assembly kernels (windows.go)
+		if haveAVX2 {
+			haveAVX2 = false
+			checkAgainstOracle(t, shape.name+" scanned in Go", p)
+			haveAVX2 = true
+		}
 		if shape.name != "field2h" && shape.name != "trainer24h" {
 			continue // the float oracle sums near-ties one by one: slow on steady shapes
 		}
