@@ -21,11 +21,15 @@ var fitEpoch = time.Date(1989, 12, 31, 0, 0, 0, 0, time.UTC).Unix()
 // or damage (Truncated, with a note); a checksum mismatch on a complete
 // file is an error unless opts.Salvage.
 func decodeFIT(r io.Reader, opts Options) ([]Ride, error) {
-	data, err := boundedFIT(r)
+	scratch := fitScratches.Get().(*fitScratch)
+	defer scratch.release() // the rides returned are copies: nothing keeps the buffers
+	data, err := boundedFIT(r, scratch.data)
 	if err != nil {
 		return nil, err
 	}
-	f := readFIT(data, MaxFITRecords)
+	scratch.data = data
+	f := readFIT(data, MaxFITRecords, scratch.records)
+	scratch.records = f.records
 	switch t := f.fileType; {
 	case f.tooMany:
 		return nil, fmt.Errorf("FIT file holds more than %d records: not the recording of a ride", MaxFITRecords)

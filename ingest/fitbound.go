@@ -1,6 +1,7 @@
 package ingest
 
 import (
+	"bytes"
 	"errors"
 	"fmt"
 	"io"
@@ -15,17 +16,19 @@ const (
 	MaxFITRecords = 250_000
 )
 
-// boundedFIT reads a FIT stream into memory within MaxFITBytes.
-func boundedFIT(r io.Reader) ([]byte, error) {
-	b, err := io.ReadAll(io.LimitReader(r, MaxFITBytes+1))
+// boundedFIT reads a FIT stream into memory within MaxFITBytes, into buf
+// (a buffer to reuse, or nil).
+func boundedFIT(r io.Reader, buf []byte) ([]byte, error) {
+	b := bytes.NewBuffer(buf[:0])
+	_, err := b.ReadFrom(io.LimitReader(r, MaxFITBytes+1))
 	if err != nil && !errors.Is(err, io.ErrUnexpectedEOF) {
 		if errors.Is(err, errTooLarge) {
 			return nil, errTooLarge
 		}
 		return nil, err
 	}
-	if len(b) > MaxFITBytes {
+	if b.Len() > MaxFITBytes {
 		return nil, fmt.Errorf("FIT file is larger than %d MiB: not the recording of a ride", MaxFITBytes>>20)
 	}
-	return b, nil
+	return b.Bytes(), nil
 }

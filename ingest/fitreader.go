@@ -89,16 +89,24 @@ var fitCRCTable = [16]uint16{0x0000, 0xCC01, 0xD801, 0x1400, 0xF001, 0x3C00, 0x2
 	0xA001, 0x6C00, 0x7800, 0xB401, 0x5000, 0x9C01, 0x8801, 0x4400}
 
 // fitCRC is the FIT protocol's CRC-16 (the reflected polynomial 0xA001,
-// as the protocol's nibble tables compute it), a byte at a time.
+// as the protocol's nibble tables compute it), eight bytes a step: the
+// table for a byte k places from the end of the step is the one-byte
+// table applied k more times (slicing by eight), the rest a byte a time.
 func fitCRC(b []byte) uint16 {
 	var crc uint16
+	t := &fitCRC8
+	for ; len(b) >= 8; b = b[8:] {
+		x := crc ^ uint16(b[0]) ^ uint16(b[1])<<8
+		crc = t[7][byte(x)] ^ t[6][x>>8] ^ t[5][b[2]] ^ t[4][b[3]] ^
+			t[3][b[4]] ^ t[2][b[5]] ^ t[1][b[6]] ^ t[0][b[7]]
+	}
 	for _, x := range b {
-		crc = crc>>8 ^ fitCRC8[byte(crc)^x]
+		crc = crc>>8 ^ t[0][byte(crc)^x]
 	}
 	return crc
 }
 
-var fitCRC8 = func() (t [256]uint16) {
+var fitCRC8 = func() (t [8][256]uint16) {
 	for i := range 256 {
 		crc := uint16(i)
 		for range 8 {
@@ -108,7 +116,13 @@ var fitCRC8 = func() (t [256]uint16) {
 				crc >>= 1
 			}
 		}
-		t[i] = crc
+		t[0][i] = crc
+	}
+	for k := 1; k < 8; k++ {
+		for i := range 256 {
+			prev := t[k-1][i]
+			t[k][i] = prev>>8 ^ t[0][byte(prev)]
+		}
 	}
 	return
 }()
@@ -128,9 +142,14 @@ func fitCRCNibbles(b []byte) uint16 {
 	return crc
 }
 
-// readFIT reads every segment of a FIT file (chained files in order).
-func readFIT(b []byte, maxRecords int) fitFile {
-	f := fitFile{fileType: -1, records: make([]Sample, 0, min(len(b)/4, maxRecords)+1)}
+// readFIT reads every segment of a FIT file (chained files in order),
+// appending the records to records[:0] (a buffer to reuse, or nil).
+func readFIT(b []byte, maxRecords int, records []Sample) fitFile {
+	if records == nil {
+		// a record takes at least 3 bytes; most take 8 or more
+		records = make([]Sample, 0, min(len(b)/8, maxRecords)+1)
+	}
+	f := fitFile{fileType: -1, records: records[:0]}
 	first := true
 	for len(b) >= 12 && string(b[8:12]) == ".FIT" {
 		hs := int(b[0])

@@ -142,7 +142,10 @@ func Read(r io.Reader, name string, fallbackStart time.Time, opts Options) (ride
 			rides, err = nil, fmt.Errorf("decoder failed on this file: %v", p)
 		}
 	}()
-	br := bufio.NewReaderSize(&capReader{r, maxFileBytes}, 64<<10)
+	outer := readers.Get().(*bufio.Reader)
+	outer.Reset(&capReader{r, maxFileBytes})
+	defer func() { outer.Reset(nil); readers.Put(outer) }()
+	br := outer
 	head, _ := br.Peek(2)
 	if len(head) == 0 {
 		return nil, errors.New("empty file")
@@ -156,7 +159,10 @@ func Read(r io.Reader, name string, fallbackStart time.Time, opts Options) (ride
 		if limit <= 0 {
 			limit = defaultMaxDecompressed
 		}
-		br = bufio.NewReaderSize(&capReader{gz, limit}, 64<<10)
+		inner := readers.Get().(*bufio.Reader)
+		inner.Reset(&capReader{gz, limit})
+		defer func() { inner.Reset(nil); readers.Put(inner) }()
+		br = inner
 		if h, _ := br.Peek(1); len(h) == 0 {
 			return nil, errors.New("empty file inside gzip")
 		}

@@ -461,3 +461,23 @@ func TestScanLetsPowerGo(t *testing.T) {
 		}
 	}
 }
+
+// A curve's columns are its own: the working memory reused by the next
+// ride's curve (scratch.go) never shows through, for offsets kept in two
+// bytes or, past 65,535 s, in four.
+func TestCurvesOwnTheirColumns(t *testing.T) {
+	// 18.5 h easy, then the 2-h field ride: its best windows start past
+	// 65,535 s
+	long := append(series(66600, func(int) float64 { return 90 }), rideShapes[0].power()...)
+	for _, p := range [][]float64{rideShapes[0].power(), long} {
+		rc := rideCurve(&Source{File: "a.fit"}, p)
+		want := MeanMax(p, rc.DurationsS())
+		rideCurve(&Source{File: "b.fit"}, series(len(p), func(i int) float64 { return float64(400 - i%300) }))
+		for i, w := range want {
+			if rc.WattsAt(i) != w.Watts || rc.OffsetAt(i) != w.OffsetS {
+				t.Fatalf("%d s ride, %d s: %.1f W at %d after another curve, want %.1f W at %d",
+					len(p), w.DurationS, rc.WattsAt(i), rc.OffsetAt(i), w.Watts, w.OffsetS)
+			}
+		}
+	}
+}

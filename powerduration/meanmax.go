@@ -63,10 +63,13 @@ func MeanMax(power []float64, ds []int) []Best {
 		}
 		return out
 	}
-	if tenths, ok := asTenths(power); ok {
-		return bests(meanMax(tenths, ds, 0), 10)
+	w := getScratch()
+	defer releaseScratch(w)
+	if tenths, ok := asTenths(power, w.tenths); ok {
+		w.tenths = tenths
+		return bests(meanMax(tenths, ds, 0, w), 10)
 	}
-	return bests(meanMax(power, ds, floatMargin(power)), 1)
+	return bests(meanMax(power, ds, floatMargin(power), new(scratch[float64])), 1)
 }
 
 // floatMargin is the margin for rounding in the bounds of power summed in
@@ -100,9 +103,13 @@ func bests[T number](ws []window[T], scale float64) []Best {
 // the power allows (see RideCurve).
 func rideCurve(src *Source, power []float64) RideCurve {
 	ds := Durations(len(power))
-	offsets := make([]int32, len(ds))
-	if tenths, ok := asTenths(power); ok {
-		ws := meanMax(tenths, ds, 0)
+	w := getScratch()
+	defer releaseScratch(w)
+	w.offsets = sized(w.offsets, len(ds))
+	offsets := w.offsets
+	if tenths, ok := asTenths(power, w.tenths); ok {
+		w.tenths = tenths
+		ws := meanMax(tenths, ds, 0, w)
 		sums := make([]uint32, len(ws))
 		fits := true
 		for i, w := range ws {
@@ -110,7 +117,7 @@ func rideCurve(src *Source, power []float64) RideCurve {
 			fits = fits && w.sum <= math.MaxUint32
 		}
 		if fits {
-			return RideCurve{Source: src, sums: sums}.withOffsets(offsets, nil)
+			return RideCurve{Source: src, sums: sums}.withOffsets(offsets, nil).own()
 		}
 	}
 	bs := MeanMax(power, ds)
@@ -118,12 +125,20 @@ func rideCurve(src *Source, power []float64) RideCurve {
 	for i, b := range bs {
 		watts[i], offsets[i] = b.Watts, int32(b.OffsetS)
 	}
-	return RideCurve{Source: src, watts: watts}.withOffsets(offsets, nil)
+	return RideCurve{Source: src, watts: watts}.withOffsets(offsets, nil).own()
 }
 
-// asTenths is power in whole tenths of a watt, if every value is one.
-func asTenths(power []float64) ([]int64, bool) {
-	out := make([]int64, len(power))
+// own is rc with offsets of its own where they were kept in four bytes
+// (withOffsets keeps the slice it is given: here the scratch's).
+func (rc RideCurve) own() RideCurve {
+	rc.off32 = slices.Clone(rc.off32)
+	return rc
+}
+
+// asTenths is power in whole tenths of a watt, if every value is one
+// (into buf where it is long enough).
+func asTenths(power []float64, buf []int64) ([]int64, bool) {
+	out := sized(buf, len(power))
 	for i, p := range power {
 		t := math.Round(p * 10)
 		if !(math.Abs(t-p*10) <= 1e-9 && t >= 0 && t <= 1<<40) { // NaN fails too
@@ -149,25 +164,36 @@ const blockStarts = 512
 // meanMax is MeanMax over samples of type T: the best window of each
 // duration. margin is added to every bound before it is compared with the
 // best so far (0 where sums are exact).
-func meanMax[T number](power []T, ds []int, margin T) []window[T] {
+//
+// The windows returned are w's memory: copy them before w is used again.
+func meanMax[T number](power []T, ds []int, margin T, w *scratch[T]) []window[T] {
 	n := len(power)
-	out := make([]window[T], 0, len(ds))
-	sum := make([]T, n+1)
+	out := sized(w.out, len(ds))[:0]
+	sum := sized(w.sum, n+1)
+	sum[0] = 0
 	var top T
 	for i, p := range power {
 		sum[i+1] = sum[i] + p
 		top = max(top, p)
 	}
-	sc := scanner[T]{sum: sum, rmq: newRangeMax(power), margin: margin}
+	rmq := newRangeMax(power, w.levels)
+	sc := scanner[T]{sum: sum, rmq: rmq, margin: margin}
 	if s, ok := any(sum).([]int64); ok {
-		sc.sum32, _ = sums32(s)
+		sc.sum32, _ = sums32(s, w.sum32)
 	}
 	blocks := (n + blockStarts - 1) / blockStarts
-	upper := make([]T, blocks) // a bound on the block's window sums at duration since
-	since := make([]int32, blocks)
+	upper := sized(w.upper, blocks) // a bound on the block's window sums at duration since
+	since := sized(w.since, blocks)
+	clear(since)
 	// reach[k] bounds the sum of any k seconds of the ride: the best sum
 	// of the shortest duration computed that is at least k long.
-	reach := make([]T, 1, min(n, maxOf(ds))+1)
+	reach := append(w.reach[:0], 0)
+	defer func() {
+		w.out, w.sum, w.levels, w.upper, w.since, w.reach = out, sum, rmq.levels, upper, since, reach
+		if sc.sum32 != nil {
+			w.sum32 = sc.sum32
+		}
+	}()
 	prevStart := 0
 	for _, d := range ds {
 		if d < 1 || d > n {
@@ -339,23 +365,34 @@ type rangeMax[T number] struct {
 
 const rangeGrain = 32
 
-func newRangeMax[T number](v []T) rangeMax[T] {
-	grains := make([]T, (len(v)+rangeGrain-1)/rangeGrain)
+// newRangeMax builds the table for v, in the memory of old where it is
+// long enough.
+func newRangeMax[T number](v []T, old [][]T) rangeMax[T] {
+	grains := sized(at(old, 0), (len(v)+rangeGrain-1)/rangeGrain)
+	clear(grains)
 	for i, x := range v {
 		g := i / rangeGrain
 		grains[g] = max(grains[g], x)
 	}
-	levels := [][]T{grains}
+	levels := append(old[:0], grains)
 	for k := 1; 1<<k <= len(grains); k++ {
 		prev := levels[k-1]
 		half := 1 << (k - 1)
-		cur := make([]T, len(grains)-(1<<k)+1)
+		cur := sized(at(old[:cap(old)], k), len(grains)-(1<<k)+1)
 		for i := range cur {
 			cur[i] = max(prev[i], prev[i+half])
 		}
 		levels = append(levels, cur)
 	}
 	return rangeMax[T]{levels}
+}
+
+// at is s[i], or nil past its end.
+func at[E any](s [][]E, i int) []E {
+	if i < len(s) {
+		return s[i]
+	}
+	return nil
 }
 
 func (r rangeMax[T]) max(a, b int) T {

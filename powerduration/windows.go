@@ -8,13 +8,14 @@ package powerduration
 // run eight starts an instruction (windows_amd64.s); elsewhere, and as
 // the tests' reference, in Go (windowsMax32Go, firstWith32Go).
 
-// sums32 is the prefix sums of tenths as 32-bit numbers, if the whole
-// ride's sum is below 2^32 (then so is every window's).
-func sums32(sum []int64) ([]uint32, bool) {
+// sums32 is the prefix sums of tenths as 32-bit numbers (into buf where
+// it is long enough), if the whole ride's sum is below 2^32 (then so is
+// every window's).
+func sums32(sum []int64, buf []uint32) ([]uint32, bool) {
 	if len(sum) == 0 || sum[len(sum)-1] >= 1<<32 {
 		return nil, false
 	}
-	out := make([]uint32, len(sum))
+	out := sized(buf, len(sum))
 	for i, s := range sum {
 		out[i] = uint32(s)
 	}
