@@ -252,7 +252,17 @@ func walk(dir string, st os.FileInfo, visited map[fileKey]bool, add func(string)
 			continue
 		}
 		p := filepath.Join(dir, e.Name())
-		est, err := os.Stat(p) // follows links
+		if e.Type().IsRegular() {
+			// the folder's listing says what it is: no stat needed
+			switch {
+			case IsArchiveName(e.Name()):
+				addArchive(p, add, skipped)
+			case IsRideName(e.Name()):
+				add(p)
+			}
+			continue
+		}
+		est, err := os.Stat(p) // a folder, or a link followed
 		if err != nil {
 			if IsRideName(e.Name()) || e.IsDir() || e.Type()&os.ModeSymlink != 0 {
 				*skipped = append(*skipped, Skipped{p, pathReason(p, err)})

@@ -174,6 +174,7 @@ func decodeCurve(raw []byte, r *ingest.Ride, ceilW float64, sl *curveSlab) (powe
 		return powerduration.RideCurve{}, errLayout
 	}
 	b, p := raw[1:], 0
+	ok := true
 	var sums []uint32
 	var watts []float64
 	switch raw[0] {
@@ -186,13 +187,9 @@ func decodeCurve(raw []byte, r *ingest.Ride, ceilW float64, sl *curveSlab) (powe
 		sums = sl.takeSums(len(ds))
 		// a duration's best sum is at most the ceiling for every second
 		ceilT := int64(math.Min(ceilW*10, math.MaxUint32))
-		var sum int64
-		for i, d := range ds[:short] {
-			sum += int64(binary.LittleEndian.Uint16(fixed[2*i:]))
-			if sum > ceilT*int64(d) {
-				return powerduration.RideCurve{}, errLayout
-			}
-			sums[i] = uint32(sum)
+		sum, ok := prefixSums(sums[:short], fixed, ds[:short], ceilT)
+		if !ok {
+			return powerduration.RideCurve{}, errLayout
 		}
 		p = n + 2*short
 		for i := short; i < len(ds); i++ {
@@ -228,23 +225,13 @@ func decodeCurve(raw []byte, r *ingest.Ride, ceilW float64, sl *curveSlab) (powe
 	} else {
 		off32 = make([]int32, len(ds))
 	}
-	var off int64
-	for i, d := range ds {
-		if u, n := shortUvarint(b, p); n > 0 { // the usual case, inline
-			off, p = off+(int64(u>>1)^-int64(u&1)), p+n
-		} else if delta, q, ok := varint(b, p); ok {
-			off, p = off+delta, q
-		} else {
-			return powerduration.RideCurve{}, errLayout
-		}
-		if off < 0 || off+int64(d) > int64(seconds) {
-			return powerduration.RideCurve{}, errLayout
-		}
-		if off16 != nil {
-			off16[i] = uint16(off)
-		} else {
-			off32[i] = int32(off)
-		}
+	if off16 != nil {
+		p, ok = offsets(off16, b, p, ds, seconds)
+	} else {
+		p, ok = offsets(off32, b, p, ds, seconds)
+	}
+	if !ok {
+		return powerduration.RideCurve{}, errLayout
 	}
 	if p != len(b) {
 		return powerduration.RideCurve{}, errLayout
@@ -253,6 +240,81 @@ func decodeCurve(raw []byte, r *ingest.Ride, ceilW float64, sl *curveSlab) (powe
 		return powerduration.NewRideCurve(src, watts, off32), nil
 	}
 	return powerduration.RideCurveOfSums(src, sums, off16, off32), nil
+}
+
+// prefixSums fills sums with the running sum of the two-byte changes in
+// fixed (one for each of sums and ds) and returns the last. No change
+// may be more than the ceiling for every second it adds (ceilT, tenths
+// of a watt): a window one second longer holds one more second of power.
+// (Checked without branches: the loop runs for every point of every
+// curve a warm scan reads.)
+func prefixSums(sums []uint32, fixed []byte, ds []int, ceilT int64) (int64, bool) {
+	fixed = fixed[:2*len(sums)]
+	ds = ds[:len(sums)]
+	var sum int64
+	if len(ds) > 0 && ds[len(ds)-1] == len(ds) {
+		// every second from 1 s: each change adds one second
+		var most int64
+		for i := range sums {
+			delta := int64(fixed[2*i]) | int64(fixed[2*i+1])<<8
+			most = max(most, delta)
+			sum += delta
+			sums[i] = uint32(sum)
+		}
+		return sum, most <= ceilT
+	}
+	worst, prevD := int64(math.MinInt64), 0 // the most a change is over its ceiling
+	for i := range sums {
+		delta := int64(fixed[2*i]) | int64(fixed[2*i+1])<<8
+		worst = max(worst, delta-ceilT*int64(ds[i]-prevD))
+		sum, prevD = sum+delta, ds[i]
+		sums[i] = uint32(sum)
+	}
+	return sum, worst <= 0
+}
+
+// offsets reads the changes of offset from b[p:] into out, one for each
+// of ds, each window inside the ride, and returns the position after
+// them. Changes of one byte (nearly all of them, each within ±64 s) are
+// read eight at a time, and checked one by one only where eight such
+// changes could take a window out of the ride.
+func offsets[O uint16 | int32](out []O, b []byte, p int, ds []int, seconds int) (int, bool) {
+	out = out[:len(ds)]
+	var off int64
+	lowest, worst := int64(0), int64(math.MinInt64) // the lowest offset; the most a window is past the end
+	for i := 0; i < len(ds); {
+		if i+8 <= len(ds) && p+8 <= len(b) {
+			if w := binary.LittleEndian.Uint64(b[p:]); w&0x8080808080808080 == 0 {
+				o, d := out[i:i+8:i+8], ds[i:i+8:i+8]
+				if off >= 8*64 && off+8*64+int64(d[7]) <= int64(seconds) {
+					// no window of the eight can leave the ride
+					for j := range 8 {
+						c := int64(w >> (8 * j) & 0x7f)
+						off += c>>1 ^ -(c & 1)
+						o[j] = O(off)
+					}
+				} else {
+					for j := range 8 {
+						c := int64(w >> (8 * j) & 0x7f)
+						off += c>>1 ^ -(c & 1)
+						lowest, worst = min(lowest, off), max(worst, off+int64(d[j]))
+						o[j] = O(off)
+					}
+				}
+				i, p = i+8, p+8
+				continue
+			}
+		}
+		delta, q, ok := varint(b, p)
+		if !ok {
+			return p, false
+		}
+		off, p = off+delta, q
+		lowest, worst = min(lowest, off), max(worst, off+int64(ds[i]))
+		out[i] = O(off)
+		i++
+	}
+	return p, lowest >= 0 && worst <= int64(seconds)
 }
 
 // varint reads the signed variable-length integer at b[p:] and the

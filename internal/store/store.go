@@ -24,6 +24,7 @@ import (
 	"path/filepath"
 	"runtime"
 	"sort"
+	"strconv"
 	"strings"
 	"sync"
 	"time"
@@ -328,11 +329,12 @@ func (x *stored) keep(curve sql.RawBytes) {
 var castagnoli = crc32.MakeTable(crc32.Castagnoli)
 
 func rowSum(start, sport string, seconds int, qual *qualityRow, curve []byte) int64 {
-	h := crc32.New(castagnoli)
-	fmt.Fprintf(h, "%s\x00%s\x00%d\x00", start, sport, seconds)
-	h.Write(qual.checksummed())
-	h.Write(curve)
-	return int64(h.Sum32())
+	var head [96]byte
+	b := append(append(append(append(head[:0], start...), 0), sport...), 0)
+	b = append(strconv.AppendInt(b, int64(seconds), 10), 0)
+	crc := crc32.Update(0, castagnoli, b)
+	crc = crc32.Update(crc, castagnoli, qual.checksummed())
+	return int64(crc32.Update(crc, castagnoli, curve))
 }
 
 func powerSum(power []byte) int64 { return int64(crc32.Checksum(power, castagnoli)) }
@@ -713,8 +715,9 @@ func (s *Store) bulkLoad(es []entry, key string, opts ingest.Options, workers in
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
+			var slab curveSlab // this worker's
 			for e := range work {
-				if !e.unpack(s, key, opts, nil) {
+				if !e.unpack(s, key, opts, &slab) {
 					e.repaired = true // decoded again by resolve
 				}
 			}
