@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"sort"
 	"strings"
 
 	"github.com/sustain-cycling/sustain/ingest"
@@ -253,9 +254,12 @@ func prefixSums(sums []uint32, fixed []byte, ds []int, ceilT int64) (int64, bool
 	ds = ds[:len(sums)]
 	var sum int64
 	if len(ds) > 0 && ds[len(ds)-1] == len(ds) {
-		// every second from 1 s: each change adds one second
-		var most int64
-		for i := range sums {
+		// every second from 1 s: each change adds one second; eight at a
+		// time (decode.go), the rest one by one
+		k := len(sums) &^ 7
+		last, most8 := prefixSums8(sums[:k], fixed, 0)
+		sum, most := int64(last), int64(most8)
+		for i := k; i < len(sums); i++ {
 			delta := int64(fixed[2*i]) | int64(fixed[2*i+1])<<8
 			most = max(most, delta)
 			sum += delta
@@ -282,7 +286,19 @@ func offsets[O uint16 | int32](out []O, b []byte, p int, ds []int, seconds int) 
 	out = out[:len(ds)]
 	var off int64
 	lowest, worst := int64(0), int64(math.MinInt64) // the lowest offset; the most a window is past the end
+	out16, _ := any(out).([]uint16)
+	contiguous := contiguousPrefix(ds) // ds[i] = i+1 below this
 	for i := 0; i < len(ds); {
+		if k := min(contiguous-i, len(b)-p) / 8; out16 != nil && k > 0 {
+			// rounds of eight one-byte changes, eight points an
+			// instruction (decode.go)
+			n, last, low, high := offsets16(out16[i:i+8*k], b[p:p+8*k], int32(ds[i]), int32(off))
+			if n > 0 {
+				off, i, p = int64(last), i+8*n, p+8*n
+				lowest, worst = min(lowest, int64(low)), max(worst, int64(high))
+				continue
+			}
+		}
 		if i+8 <= len(ds) && p+8 <= len(b) {
 			if w := binary.LittleEndian.Uint64(b[p:]); w&0x8080808080808080 == 0 {
 				o, d := out[i:i+8:i+8], ds[i:i+8:i+8]
@@ -315,6 +331,13 @@ func offsets[O uint16 | int32](out []O, b []byte, p int, ds []int, seconds int) 
 		i++
 	}
 	return p, lowest >= 0 && worst <= int64(seconds)
+}
+
+// contiguousPrefix is how many of ds run 1, 2, 3, … (every second from
+// 1 s, as the grid does up to an hour): ds rises strictly, so ds[i] = i+1
+// holds for a prefix.
+func contiguousPrefix(ds []int) int {
+	return sort.Search(len(ds), func(i int) bool { return ds[i] != i+1 })
 }
 
 // varint reads the signed variable-length integer at b[p:] and the

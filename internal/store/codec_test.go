@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"github.com/sustain-cycling/sustain/ingest"
+	"github.com/sustain-cycling/sustain/internal/synth"
 	"github.com/sustain-cycling/sustain/powerduration"
 )
 
@@ -63,5 +64,54 @@ func TestCodecsRoundTrip(t *testing.T) {
 	row = rowOfQuality(&empty)
 	if back, err := row.quality(10); err != nil || !reflect.DeepEqual(back, empty) {
 		t.Errorf("empty quality: %+v (%v)", back, err)
+	}
+}
+
+// Every point of a stored curve is checked, on both ways of decoding
+// (the assembly kernels where the machine has them, and Go): a smooth
+// field ride's curve (long rounds of one-byte changes) comes back exactly;
+// and on rides whose best windows all end at the ride's end (rising
+// power) or all start at its start (falling power), a window moved out of
+// the ride by one second, at any duration, is refused.
+func TestDecodeCurveChecksEveryPoint(t *testing.T) {
+	a := synth.Athlete{CPW: 260, WPrimeJ: 18000, PmaxW: 900}
+	tr := synth.FieldRide(a, time.Date(2026, 4, 2, 9, 0, 0, 0, time.UTC), 100, []int{45, 420}, 3)
+	field := make([]float64, len(tr.PowerW))
+	for i, w := range tr.PowerW {
+		field[i] = math.Round(w*10) / 10
+	}
+	rising, falling := make([]float64, 5000), make([]float64, 5000)
+	for i := range rising {
+		rising[i] = 100 + float64(i)/10
+		falling[i] = 600 - float64(i)/10
+	}
+	kernels := haveAVX2
+	defer func() { haveAVX2 = kernels }()
+	for _, on := range []bool{kernels, false} {
+		haveAVX2 = on
+		for name, p := range map[string][]float64{"field": field, "rising": rising, "falling": falling} {
+			r := ingest.Ride{File: "x.fit", Start: tr.Start, PowerW: p}
+			r.Quality.Seconds = len(p)
+			c := powerduration.OfRide(&r)
+			got, err := decodeCurve(encodeCurve(c), &r, 2000, nil)
+			if err != nil || !reflect.DeepEqual(got.TenthsSums(), c.TenthsSums()) || !reflect.DeepEqual(got.OffsetsS(), c.OffsetsS()) {
+				t.Fatalf("kernels %v: the %s ride's curve does not round-trip (%v)", on, name, err)
+			}
+			if name == "field" {
+				continue
+			}
+			for _, at := range []int{0, 5, 17, 700, 2999, 3599, c.Len() - 1} {
+				moved := c.OffsetsS()
+				moved[at] -= 1 // before the start
+				if name == "rising" {
+					moved[at] += 2 // past the end
+				}
+				bad := powerduration.RideCurveOfSums(c.Source, c.TenthsSums(), nil, moved)
+				if _, err := decodeCurve(encodeCurve(bad), &r, 2000, nil); err == nil {
+					t.Errorf("kernels %v: %s ride: the window of %d s moved to offset %d, out of the ride, was accepted",
+						on, name, c.DurationsS()[at], moved[at])
+				}
+			}
+		}
 	}
 }
