@@ -23,6 +23,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -60,9 +61,10 @@ CREATE TABLE IF NOT EXISTS rides (
 
 // Store is an open ride store.
 type Store struct {
-	db   *sql.DB
-	wait time.Duration
-	Path string
+	db    *sql.DB // the one connection that writes (and reads)
+	reads *sql.DB // connections that only read, one a core
+	wait  time.Duration
+	Path  string
 	// Notes says what Open had to do (rebuild an old or damaged store).
 	Notes []string
 }
@@ -191,9 +193,19 @@ func open(path string, wait time.Duration) (*Store, error) {
 		return nil, err
 	}
 	db.SetMaxOpenConns(1)
-	s := &Store{db: db, Path: path, wait: wait}
+	// a warm scan reads on a connection for each core at once (bulkLoad);
+	// they never write
+	reads, err := sql.Open("sqlite", fmt.Sprintf("file:%s?_pragma=busy_timeout(%d)&_pragma=query_only(1)", path, wait.Milliseconds()))
+	if err != nil {
+		db.Close()
+		return nil, err
+	}
+	reads.SetMaxOpenConns(runtime.NumCPU())
+	reads.SetMaxIdleConns(runtime.NumCPU())
+	s := &Store{db: db, reads: reads, Path: path, wait: wait}
 	if err := s.init(); err != nil {
 		db.Close()
+		reads.Close()
 		if strings.Contains(err.Error(), "locked") || strings.Contains(err.Error(), "busy") {
 			return nil, fmt.Errorf("%w: %v", errLocked, err)
 		}
@@ -250,7 +262,10 @@ func (s *Store) Check() error {
 }
 
 // Close closes the store.
-func (s *Store) Close() error { return s.db.Close() }
+func (s *Store) Close() error {
+	s.reads.Close()
+	return s.db.Close()
+}
 
 // optionsKey names the options that change what a file decodes to.
 func optionsKey(o ingest.Options) string {
@@ -359,7 +374,7 @@ func (s *Store) Scan(paths []string, opts ingest.Options) (ingest.Result, []powe
 
 // rebuild moves the damaged store aside and opens a new one at its path.
 func (s *Store) rebuild(cause error) (string, error) {
-	s.db.Close()
+	s.Close()
 	aside := fmt.Sprintf("%s.damaged-%s", s.Path, time.Now().UTC().Format("20060102T150405"))
 	if err := os.Rename(s.Path, aside); err != nil && !os.IsNotExist(err) {
 		return "", err
@@ -371,7 +386,7 @@ func (s *Store) rebuild(cause error) (string, error) {
 	if err != nil {
 		return "", err
 	}
-	s.db = ns.db
+	s.db, s.reads = ns.db, ns.reads
 	return fmt.Sprintf("the store was found damaged (%v); it was moved to %s and rebuilt", cause, aside), nil
 }
 
@@ -614,26 +629,46 @@ func (s *Store) load(e *entry, key string, opts ingest.Options) (found bool, err
 // physical bounds leaves the entry unanswered (ok false), to be decoded
 // again from its file.
 func (e *entry) unpack(s *Store, key string, opts ingest.Options, sl *curveSlab) (ok bool) {
-	var rides []ingest.Ride
-	var curves []powerduration.RideCurve
+	var got []checked
 	for _, x := range e.raws {
 		r, c, err := x.check(e.path, opts, sl)
 		if err != nil {
 			e.raws, e.rides, e.curves = nil, nil, nil
 			return false
 		}
-		if q := r.Quality; q.DatedByFallback {
-			// the date is the path's and the file's, not the content's: the
-			// same bytes under another name or time are another day
-			fb := ingest.FallbackStart(e.path, time.Unix(0, e.mtime))
-			r.Start = fb.Add(time.Duration(q.FallbackOffsetS * 1e9)).In(fb.Location())
+		got = append(got, checked{r, c})
+	}
+	e.raws = nil
+	e.answer(s, key, opts, got)
+	return true
+}
+
+// checked is a stored row that passed its checks, as a ride and a curve.
+type checked struct {
+	ride  ingest.Ride
+	curve powerduration.RideCurve
+}
+
+// answer makes the entry's rides and curves of its checked rows (checked
+// for this entry's path or another path with the same content): what
+// depends on the path is set for this one.
+func (e *entry) answer(s *Store, key string, opts ingest.Options, rows []checked) {
+	e.rides, e.curves = make([]ingest.Ride, len(rows)), make([]powerduration.RideCurve, len(rows))
+	for i, x := range rows {
+		r, c := x.ride, x.curve
+		if q := r.Quality; q.DatedByFallback || r.File != e.path {
+			r.File = e.path
+			if q.DatedByFallback {
+				// the date is the path's and the file's, not the content's:
+				// the same bytes under another name or time are another day
+				fb := ingest.FallbackStart(e.path, time.Unix(0, e.mtime))
+				r.Start = fb.Add(time.Duration(q.FallbackOffsetS * 1e9)).In(fb.Location())
+			}
 			c.Source = powerduration.SourceOf(&r)
 		}
 		r.LeavePower(s.powerLoader(e.path, e.hash, key, r.Session, r.Quality.Seconds, opts))
-		rides, curves = append(rides, r), append(curves, c)
+		e.rides[i], e.curves[i] = r, c
 	}
-	e.rides, e.curves, e.raws = rides, curves, nil
-	return true
 }
 
 // check verifies a stored row and turns it into a ride and its curve:
@@ -664,11 +699,12 @@ func (x stored) check(path string, opts ingest.Options, sl *curveSlab) (ingest.R
 	return r, c, nil
 }
 
-// bulkLoad answers, with two queries, every entry whose hash the files
-// table knew. Each file's rows are unpacked (checked and decoded) on
-// `workers` goroutines as soon as they are read, while the query goes on;
-// an entry whose rows fail their check is left unanswered (and marked
-// repaired), for resolve to decode again once the query is done.
+// bulkLoad answers every entry whose hash the files table knew: one
+// query for the results (a reason, or rides), then the rides, the hashes
+// split among `workers` goroutines, each reading its share on a
+// connection of its own and checking and decoding each row as it comes
+// (no copy of a row is kept). An entry whose rows fail their check is
+// left unanswered (and marked repaired), for resolve to decode again.
 func (s *Store) bulkLoad(es []entry, key string, opts ingest.Options, workers int) error {
 	byHash := map[string][]*entry{}
 	var hashes []string
@@ -683,87 +719,112 @@ func (s *Store) bulkLoad(es []entry, key string, opts ingest.Options, workers in
 	if len(hashes) == 0 {
 		return nil
 	}
+	slices.Sort(hashes)
 	list, err := json.Marshal(hashes)
 	if err != nil {
 		return err
 	}
-	rows, err := s.db.Query(`SELECT sha256, reason FROM results WHERE options = ? AND sha256 IN (SELECT value FROM json_each(?))`, key, string(list))
+	rows, err := s.reads.Query(`SELECT sha256, reason FROM results WHERE options = ? AND sha256 IN (SELECT value FROM json_each(?))`, key, string(list))
 	if err != nil {
 		return err
 	}
-	reasons := map[string]string{}
+	var withRides []string // in hash order
 	for rows.Next() {
 		var h, reason string
 		if err := rows.Scan(&h, &reason); err != nil {
 			rows.Close()
 			return err
 		}
-		reasons[h] = reason
 		if reason != "" {
 			for _, e := range byHash[h] {
 				e.reason, e.loaded = reason, true
 			}
+		} else {
+			withRides = append(withRides, h)
 		}
 	}
 	rows.Close()
 	if err := rows.Err(); err != nil {
 		return err
 	}
-	work := make(chan *entry, 64)
+	slices.Sort(withRides)
+	parts := min(workers, max(len(withRides)/16, 1)) // a share of at least 16 files
+	errs := make([]error, parts)
 	var wg sync.WaitGroup
-	for range workers {
+	for k := range parts {
+		share := withRides[k*len(withRides)/parts : (k+1)*len(withRides)/parts]
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			var slab curveSlab // this worker's
-			for e := range work {
-				if !e.unpack(s, key, opts, &slab) {
-					e.repaired = true // decoded again by resolve
-				}
-			}
+			errs[k] = s.loadShare(share, byHash, key, opts)
 		}()
 	}
+	wg.Wait()
+	return errors.Join(errs...)
+}
+
+// loadShare reads, checks and decodes the stored rides of the given
+// hashes (sorted), and answers their entries.
+func (s *Store) loadShare(hashes []string, byHash map[string][]*entry, key string, opts ingest.Options) error {
+	if len(hashes) == 0 {
+		return nil
+	}
+	list, err := json.Marshal(hashes)
+	if err != nil {
+		return err
+	}
+	rows, err := s.reads.Query(`SELECT sha256, `+storedColumns+` FROM rides
+		WHERE options = ? AND sha256 IN (SELECT value FROM json_each(?)) ORDER BY sha256, session`, key, string(list))
+	if err != nil {
+		return err
+	}
+	defer rows.Close()
+	var slab curveSlab // this share's
 	// rows come ordered by hash: a hash's rows are complete when the next
 	// hash starts
 	var h string
-	var raws []stored
-	flush := func() {
-		if reason, ok := reasons[h]; ok && reason == "" && len(raws) > 0 {
-			for _, e := range byHash[h] {
-				e.raws, e.loaded = raws, true
-				work <- e
+	var got []checked
+	failed := false
+	finish := func() {
+		for _, e := range byHash[h] {
+			switch {
+			case failed:
+				e.loaded, e.repaired = true, true // decoded again by resolve
+			case len(got) > 0:
+				e.answer(s, key, opts, got)
+				e.loaded = true
 			}
 		}
-		raws = nil
+		got, failed = nil, false
 	}
-	rows, err = s.db.Query(`SELECT sha256, `+storedColumns+` FROM rides
-		WHERE options = ? AND sha256 IN (SELECT value FROM json_each(?)) ORDER BY sha256, session`, key, string(list))
-	if err == nil {
-		for rows.Next() {
-			var rh string
-			var x stored
-			var curve sql.RawBytes
-			if err = rows.Scan(append([]any{&rh}, x.fields(&curve)...)...); err != nil {
-				break
-			}
-			if rh != h {
-				flush()
-				h = rh
-			}
-			x.keep(curve)
-			raws = append(raws, x)
+	for rows.Next() {
+		var rh string
+		var x stored
+		var curve sql.RawBytes
+		if err := rows.Scan(append([]any{&rh}, x.fields(&curve)...)...); err != nil {
+			return err
 		}
-		if err == nil {
-			err = rows.Err()
+		if rh != h {
+			finish()
+			h = rh
 		}
-		rows.Close()
-		if err == nil {
-			flush()
+		if failed || len(byHash[rh]) == 0 {
+			continue
 		}
+		// checked and decoded while the row's bytes are the driver's
+		x.curve = curve
+		r, c, err := x.check(byHash[rh][0].path, opts, &slab)
+		if err != nil {
+			failed = true
+			continue
+		}
+		got = append(got, checked{r, c})
 	}
-	close(work)
-	wg.Wait()
-	return err
+	if err := rows.Err(); err != nil {
+		return err
+	}
+	finish()
+	return nil
 }
 
 // leavePower drops the power of freshly decoded rides (and the heart rate
