@@ -124,8 +124,15 @@ func BenchmarkScanNoStoreWithCurves(b *testing.B) {
 // BenchmarkStoreCold scans into an empty store; BenchmarkStoreWarm re-scans
 // the unchanged folder. Targets (issue 15): warm at least 40× faster than
 // cold; the store at most half the size of the FIT files (store/FIT).
-func BenchmarkStoreCold(b *testing.B) {
-	dir := benchFolder(b, 100)
+func BenchmarkStoreCold(b *testing.B) { benchCold(b, 100) }
+
+// BenchmarkStoreCold5000 scans 5,000 files into an empty store: the cold
+// side of the issue's ratio, whose warm side is BenchmarkStoreWarm5000.
+func BenchmarkStoreCold5000(b *testing.B) { benchCold(b, 5000) }
+
+// benchCold scans n files into an empty store.
+func benchCold(b *testing.B, n int) {
+	dir := benchFolder(b, n)
 	for b.Loop() {
 		b.StopTimer()
 		db := filepath.Join(b.TempDir(), "rides.db")
