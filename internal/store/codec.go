@@ -367,8 +367,9 @@ func shortUvarint(b []byte, p int) (u uint64, n int) {
 	return 0, 0
 }
 
-// qualityRow is a quality report as the store keeps it: counts in columns,
-// lists in one blob, notes one a line.
+// qualityRow is a quality report as the store keeps it: its counts and
+// measures, its lists (gaps, dropouts, spikes, stuck runs) in one blob,
+// its notes one a line; packed into one column (packed).
 type qualityRow struct {
 	samples, gapS, dropoutS, filledS, spikes, invalid, reversals, outliers int64
 	coverage, intervalS, fallbackOffsetS                                   float64
@@ -383,34 +384,54 @@ const (
 	flagSalvaged
 )
 
-// qualityColumns are the rides table's columns of a qualityRow, in order.
-const qualityColumns = `samples, coverage, interval_s, gap_s, dropout_s, filled_s, spikes_removed, invalid_values,
-	time_reversals, time_outliers, flags, fallback_offset_s, quality_lists, notes`
-
-// fields are the row's columns, for Scan (in qualityColumns' order).
-func (q *qualityRow) fields() []any {
-	return []any{&q.samples, &q.coverage, &q.intervalS, &q.gapS, &q.dropoutS, &q.filledS, &q.spikes, &q.invalid,
-		&q.reversals, &q.outliers, &q.flags, &q.fallbackOffsetS, &q.lists, &q.notes}
-}
-
-// values are the row's columns, for Exec (in qualityColumns' order).
-func (q *qualityRow) values() []any {
-	return []any{q.samples, q.coverage, q.intervalS, q.gapS, q.dropoutS, q.filledS, q.spikes, q.invalid,
-		q.reversals, q.outliers, q.flags, q.fallbackOffsetS, q.lists, q.notes}
-}
-
-// checksummed is the row as its checksum reads it.
-func (q *qualityRow) checksummed() []byte {
+// packed is the row as the store keeps it, and as its checksum reads it:
+// the counts as varints, the measures as eight bytes each, the lists'
+// length and bytes, then the notes. (One column instead of fourteen: the
+// pure-Go SQLite costs about a third of a microsecond a column a row.)
+func (q *qualityRow) packed() []byte {
 	b := make([]byte, 0, 128+len(q.lists)+len(q.notes))
-	for _, v := range []int64{q.samples, q.gapS, q.dropoutS, q.filledS, q.spikes, q.invalid, q.reversals, q.outliers, q.flags} {
-		b = binary.AppendVarint(b, v)
+	for _, v := range q.counts() {
+		b = binary.AppendVarint(b, *v)
 	}
-	for _, v := range []float64{q.coverage, q.intervalS, q.fallbackOffsetS} {
-		b = binary.LittleEndian.AppendUint64(b, math.Float64bits(v))
+	for _, v := range q.measures() {
+		b = binary.LittleEndian.AppendUint64(b, math.Float64bits(*v))
 	}
 	b = binary.AppendUvarint(b, uint64(len(q.lists)))
 	b = append(b, q.lists...)
 	return append(b, q.notes...)
+}
+
+func (q *qualityRow) counts() []*int64 {
+	return []*int64{&q.samples, &q.gapS, &q.dropoutS, &q.filledS, &q.spikes, &q.invalid, &q.reversals, &q.outliers, &q.flags}
+}
+
+func (q *qualityRow) measures() []*float64 {
+	return []*float64{&q.coverage, &q.intervalS, &q.fallbackOffsetS}
+}
+
+// unpackQuality reads a packed row; the lists and notes are copied out.
+func unpackQuality(b []byte) (qualityRow, error) {
+	var q qualityRow
+	for _, v := range q.counts() {
+		x, n := binary.Varint(b)
+		if n <= 0 {
+			return q, errLayout
+		}
+		*v, b = x, b[n:]
+	}
+	for _, v := range q.measures() {
+		if len(b) < 8 {
+			return q, errLayout
+		}
+		*v, b = math.Float64frombits(binary.LittleEndian.Uint64(b)), b[8:]
+	}
+	n, k := binary.Uvarint(b)
+	if k <= 0 || n > uint64(len(b)-k) {
+		return q, errLayout
+	}
+	q.lists = append([]byte(nil), b[k:k+int(n)]...)
+	q.notes = string(b[k+int(n):])
+	return q, nil
 }
 
 func rowOfQuality(q *ingest.Quality) qualityRow {

@@ -52,10 +52,19 @@ func TestCodecsRoundTrip(t *testing.T) {
 		Gaps: []ingest.Span{{StartS: 100, Seconds: 30}}, DropoutSeconds: 3, Dropouts: []ingest.Span{{StartS: 7, Seconds: 2}, {StartS: 900, Seconds: 1}}, SpikesRemoved: 2,
 		SpikeOffsetsS: []int{40, 41}, StuckRuns: []ingest.StuckRun{{Span: ingest.Span{StartS: 2000, Seconds: 70}, Watts: 212.5}}, Truncated: true,
 		DatedByFallback: true, FallbackOffsetS: 1.5, Notes: []string{"one", "two"}}
-	row := rowOfQuality(&q)
+	packed := rowOfQuality(&q)
+	row, err := unpackQuality(packed.packed())
+	if err != nil {
+		t.Fatalf("quality: its packed form does not unpack (%v)", err)
+	}
 	back, err := row.quality(5000)
 	if err != nil || !reflect.DeepEqual(back, q) {
 		t.Fatalf("quality: %+v (%v), want %+v", back, err, q)
+	}
+	for n := range len(packed.packed()) - len("one\ntwo") {
+		if _, err := unpackQuality(packed.packed()[:n]); err == nil {
+			t.Errorf("quality cut to %d bytes unpacked", n)
+		}
 	}
 	if _, err := row.quality(2050); err == nil {
 		t.Error("a stuck run past the ride's end was accepted")

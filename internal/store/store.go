@@ -36,7 +36,7 @@ import (
 )
 
 // SchemaVersion changes whenever the tables change; an older store is rebuilt.
-const SchemaVersion = 3
+const SchemaVersion = 4
 
 const schema = `
 CREATE TABLE IF NOT EXISTS meta (key TEXT PRIMARY KEY, value TEXT NOT NULL);
@@ -48,12 +48,7 @@ CREATE TABLE IF NOT EXISTS results (
 CREATE TABLE IF NOT EXISTS rides (
 	sha256 TEXT NOT NULL, options TEXT NOT NULL, session INTEGER NOT NULL,
 	start TEXT NOT NULL, sport TEXT NOT NULL, seconds INTEGER NOT NULL,
-	samples INTEGER NOT NULL, coverage REAL NOT NULL, interval_s REAL NOT NULL,
-	gap_s INTEGER NOT NULL, dropout_s INTEGER NOT NULL, filled_s INTEGER NOT NULL,
-	spikes_removed INTEGER NOT NULL, invalid_values INTEGER NOT NULL,
-	time_reversals INTEGER NOT NULL, time_outliers INTEGER NOT NULL,
-	flags INTEGER NOT NULL, fallback_offset_s REAL NOT NULL,
-	quality_lists BLOB NOT NULL, notes TEXT NOT NULL,
+	quality BLOB NOT NULL,
 	sum INTEGER NOT NULL, power_sum INTEGER NOT NULL, curve BLOB NOT NULL,
 	power BLOB NOT NULL,
 	PRIMARY KEY (sha256, options, session));
@@ -318,25 +313,24 @@ type entry struct {
 type stored struct {
 	session, seconds int
 	start, sport     string
-	qual             qualityRow
+	qual             []byte // packed (qualityRow.packed)
 	curve            []byte
 	sum              int64
 }
 
 // storedColumns are the rides table's columns a scan reads, in the order
 // of stored.fields.
-const storedColumns = `session, start, sport, seconds, ` + qualityColumns + `, sum, curve`
+const storedColumns = `session, start, sport, seconds, quality, sum, curve`
 
 // fields are the row's columns, for Scan; the curve is scanned without a
 // copy (sql.RawBytes), and copied once by keep.
-func (x *stored) fields(curve *sql.RawBytes) []any {
-	return append(append([]any{&x.session, &x.start, &x.sport, &x.seconds}, x.qual.fields()...), &x.sum, curve)
+func (x *stored) fields(qual, curve *sql.RawBytes) []any {
+	return []any{&x.session, &x.start, &x.sport, &x.seconds, qual, &x.sum, curve}
 }
 
 // keep copies what was scanned without a copy, before the next row.
-func (x *stored) keep(curve sql.RawBytes) {
-	x.curve = append([]byte(nil), curve...)
-	x.qual.lists = append([]byte(nil), x.qual.lists...)
+func (x *stored) keep(qual, curve sql.RawBytes) {
+	x.qual, x.curve = append([]byte(nil), qual...), append([]byte(nil), curve...)
 }
 
 // Every stored ride carries checksums (CRC-32C, Castagnoli) written with
@@ -345,12 +339,12 @@ func (x *stored) keep(curve sql.RawBytes) {
 // fail is never used, but decoded again from its file.
 var castagnoli = crc32.MakeTable(crc32.Castagnoli)
 
-func rowSum(start, sport string, seconds int, qual *qualityRow, curve []byte) int64 {
+func rowSum(start, sport string, seconds int, qual, curve []byte) int64 {
 	var head [96]byte
 	b := append(append(append(append(head[:0], start...), 0), sport...), 0)
 	b = append(strconv.AppendInt(b, int64(seconds), 10), 0)
 	crc := crc32.Update(0, castagnoli, b)
-	crc = crc32.Update(crc, castagnoli, qual.checksummed())
+	crc = crc32.Update(crc, castagnoli, qual)
 	return int64(crc32.Update(crc, castagnoli, curve))
 }
 
@@ -646,12 +640,12 @@ func (s *Store) load(e *entry, key string, opts ingest.Options) (found bool, err
 	}
 	for rows.Next() {
 		var x stored
-		var curve sql.RawBytes
-		if err := rows.Scan(x.fields(&curve)...); err != nil {
+		var qual, curve sql.RawBytes
+		if err := rows.Scan(x.fields(&qual, &curve)...); err != nil {
 			rows.Close()
 			return false, err
 		}
-		x.keep(curve)
+		x.keep(qual, curve)
 		raws = append(raws, x)
 	}
 	rows.Close()
@@ -723,7 +717,7 @@ func (x stored) check(path string, opts ingest.Options, sl *curveSlab) (ingest.R
 	bad := func(what string) (ingest.Ride, powerduration.RideCurve, error) {
 		return ingest.Ride{}, powerduration.RideCurve{}, fmt.Errorf("store: %s: stored %s fails its check", path, what)
 	}
-	if rowSum(x.start, x.sport, x.seconds, &x.qual, x.curve) != x.sum {
+	if rowSum(x.start, x.sport, x.seconds, x.qual, x.curve) != x.sum {
 		return bad("row")
 	}
 	r := ingest.Ride{File: path, Session: x.session, Sport: x.sport}
@@ -734,7 +728,11 @@ func (x stored) check(path string, opts ingest.Options, sl *curveSlab) (ingest.R
 	if x.seconds <= 0 || x.seconds > ingest.MaxTimelineS {
 		return bad("length")
 	}
-	if r.Quality, err = x.qual.quality(x.seconds); err != nil {
+	qr, err := unpackQuality(x.qual)
+	if err != nil {
+		return bad("quality report")
+	}
+	if r.Quality, err = qr.quality(x.seconds); err != nil {
 		return bad("quality report")
 	}
 	c, err := decodeCurve(x.curve, &r, ceiling(opts), sl)
@@ -845,8 +843,8 @@ func (s *Store) loadShare(hashes []string, byHash map[string][]*entry, key strin
 	for rows.Next() {
 		var rh string
 		var x stored
-		var curve sql.RawBytes
-		if err := rows.Scan(append([]any{&rh}, x.fields(&curve)...)...); err != nil {
+		var qual, curve sql.RawBytes
+		if err := rows.Scan(append([]any{&rh}, x.fields(&qual, &curve)...)...); err != nil {
 			return err
 		}
 		if rh != h {
@@ -857,7 +855,7 @@ func (s *Store) loadShare(hashes []string, byHash map[string][]*entry, key strin
 			continue
 		}
 		// checked and decoded while the row's bytes are the driver's
-		x.curve = curve
+		x.qual, x.curve = qual, curve
 		r, c, err := x.check(byHash[rh][0].path, opts, &slab)
 		if err != nil {
 			failed = true
@@ -938,11 +936,10 @@ func (s *Store) write(es []*entry, key string) error {
 		for k := range e.rides {
 			r := &e.rides[k]
 			q := rowOfQuality(&r.Quality)
-			start, power, curve := r.Start.Format(time.RFC3339Nano), encodePower(r.PowerW), encodeCurve(e.curves[k])
-			args := append([]any{e.hash, key, r.Session, start, r.Sport, len(r.PowerW)}, q.values()...)
-			args = append(args, rowSum(start, r.Sport, len(r.PowerW), &q, curve), powerSum(power), curve, power)
-			if _, err := tx.Exec(`INSERT OR REPLACE INTO rides (sha256, options, session, start, sport, seconds, `+qualityColumns+`, sum, power_sum, curve, power)
-				VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`, args...); err != nil {
+			start, qual, power, curve := r.Start.Format(time.RFC3339Nano), q.packed(), encodePower(r.PowerW), encodeCurve(e.curves[k])
+			if _, err := tx.Exec(`INSERT OR REPLACE INTO rides (sha256, options, session, start, sport, seconds, quality, sum, power_sum, curve, power)
+				VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`, e.hash, key, r.Session, start, r.Sport, len(r.PowerW), qual,
+				rowSum(start, r.Sport, len(r.PowerW), qual, curve), powerSum(power), curve, power); err != nil {
 				return err
 			}
 		}
