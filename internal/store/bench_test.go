@@ -122,12 +122,14 @@ func BenchmarkScanNoStoreWithCurves(b *testing.B) {
 }
 
 // BenchmarkStoreCold scans into an empty store; BenchmarkStoreWarm re-scans
-// the unchanged folder. Targets (issue 15): warm at least 40× faster than
-// cold; the store at most half the size of the FIT files (store/FIT).
+// the unchanged folder. Target (issue 15): the store at most half the size
+// of the FIT files (store/FIT); the ratio cold/warm at 100 files is
+// reported beside the issue's, at 5,000 (BenchmarkStoreCold5000).
 func BenchmarkStoreCold(b *testing.B) { benchCold(b, 100) }
 
 // BenchmarkStoreCold5000 scans 5,000 files into an empty store: the cold
 // side of the issue's ratio, whose warm side is BenchmarkStoreWarm5000.
+// Target (issue 15): warm at least 40× faster than cold.
 func BenchmarkStoreCold5000(b *testing.B) { benchCold(b, 5000) }
 
 // benchCold scans n files into an empty store.

@@ -1,5 +1,17 @@
 #include "textflag.h"
 
+// RUNNING_SUM turns the eight changes in Y0 into sums running on from
+// the total in Y15 (all lanes); Y1 is scratch.
+#define RUNNING_SUM \
+	VPSLLDQ    $4, Y0, Y1 \
+	VPADDD     Y1, Y0, Y0 \
+	VPSLLDQ    $8, Y0, Y1 \
+	VPADDD     Y1, Y0, Y0 \
+	VPSHUFD    $0xFF, Y0, Y1 \
+	VPERM2I128 $0x08, Y1, Y1, Y1 \
+	VPADDD     Y1, Y0, Y0 \
+	VPADDD     Y15, Y0, Y0
+
 // The curve's columns decoded eight points an instruction (decode.go has
 // the same in Go, the reference the tests hold these to). Both keep a
 // running sum across eight 32-bit lanes: each lane adds the lanes below
@@ -28,14 +40,7 @@ sumsLoop:
 	JZ    sumsDone
 	VPMOVZXWD (SI), Y0
 	VPMAXUD   Y0, Y12, Y12
-	VPSLLDQ   $4, Y0, Y1
-	VPADDD    Y1, Y0, Y0
-	VPSLLDQ   $8, Y0, Y1
-	VPADDD    Y1, Y0, Y0
-	VPSHUFD   $0xFF, Y0, Y1
-	VPERM2I128 $0x08, Y1, Y1, Y1
-	VPADDD    Y1, Y0, Y0
-	VPADDD    Y15, Y0, Y0
+	RUNNING_SUM
 	VMOVDQU   Y0, (DI)
 	VPERMD    Y0, Y8, Y15
 	ADDQ      $16, SI
@@ -115,14 +120,7 @@ offLoop:
 	VPAND   Y10, Y0, Y2
 	VPSUBD  Y2, Y9, Y2
 	VPXOR   Y2, Y1, Y0
-	VPSLLDQ $4, Y0, Y1
-	VPADDD  Y1, Y0, Y0
-	VPSLLDQ $8, Y0, Y1
-	VPADDD  Y1, Y0, Y0
-	VPSHUFD $0xFF, Y0, Y1
-	VPERM2I128 $0x08, Y1, Y1, Y1
-	VPADDD  Y1, Y0, Y0
-	VPADDD  Y15, Y0, Y0
+	RUNNING_SUM
 	VPMINSD Y0, Y12, Y12
 	VPADDD  Y14, Y0, Y1
 	VPMAXSD Y1, Y11, Y11
