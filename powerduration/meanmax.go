@@ -238,14 +238,6 @@ func meanMax[T number](power []T, ds []int, margin T, w *scratch[T]) []window[T]
 	return out
 }
 
-func maxOf(ds []int) int {
-	m := 0
-	for _, d := range ds {
-		m = max(m, d)
-	}
-	return m
-}
-
 // scanner finds the best window of one duration d.
 type scanner[T number] struct {
 	sum          []T      // prefix sums
