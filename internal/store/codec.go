@@ -23,10 +23,11 @@ import (
 //     (two bytes) and the change in the window's offset (a variable-length
 //     integer, mostly one byte): about three bytes a point instead of
 //     twelve (see encodeCurve);
-//   - quality report: its counts in columns, its lists (gaps, dropouts,
-//     spikes, stuck runs) as variable-length integers in one blob.
+//   - quality report: its counts, measures, lists (gaps, dropouts, spikes,
+//     stuck runs, as variable-length integers) and notes packed in one
+//     column (see qualityRow.packed).
 //
-// Each blob starts with a byte naming its layout.
+// The power and curve blobs start with a byte naming their layout.
 const (
 	layoutFloat64 = 0 // eight bytes a value, little-endian
 	layoutTenths  = 1 // power: uint16 tenths of a watt; curve: changes of tenths sums and of offsets
