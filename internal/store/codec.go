@@ -280,9 +280,9 @@ func prefixSums(sums []uint32, fixed []byte, ds []int, ceilT int64) (int64, bool
 
 // offsets reads the changes of offset from b[p:] into out, one for each
 // of ds, each window inside the ride, and returns the position after
-// them. Changes of one byte (nearly all of them, each within ±64 s) are
-// read eight at a time, and checked one by one only where eight such
-// changes could take a window out of the ride.
+// them. Where offsets are two bytes and the durations run every second,
+// rounds of eight one-byte changes (nearly all of them) are read eight
+// at a time (offsets16, decode.go); the rest one by one.
 func offsets[O uint16 | int32](out []O, b []byte, p int, ds []int, seconds int) (int, bool) {
 	out = out[:len(ds)]
 	var off int64
@@ -297,28 +297,6 @@ func offsets[O uint16 | int32](out []O, b []byte, p int, ds []int, seconds int) 
 			if n > 0 {
 				off, i, p = int64(last), i+8*n, p+8*n
 				lowest, worst = min(lowest, int64(low)), max(worst, int64(high))
-				continue
-			}
-		}
-		if i+8 <= len(ds) && p+8 <= len(b) {
-			if w := binary.LittleEndian.Uint64(b[p:]); w&0x8080808080808080 == 0 {
-				o, d := out[i:i+8:i+8], ds[i:i+8:i+8]
-				if off >= 8*64 && off+8*64+int64(d[7]) <= int64(seconds) {
-					// no window of the eight can leave the ride
-					for j := range 8 {
-						c := int64(w >> (8 * j) & 0x7f)
-						off += c>>1 ^ -(c & 1)
-						o[j] = O(off)
-					}
-				} else {
-					for j := range 8 {
-						c := int64(w >> (8 * j) & 0x7f)
-						off += c>>1 ^ -(c & 1)
-						lowest, worst = min(lowest, off), max(worst, off+int64(d[j]))
-						o[j] = O(off)
-					}
-				}
-				i, p = i+8, p+8
 				continue
 			}
 		}
