@@ -27,6 +27,14 @@ func athletesFile(c *cli.Context) (f athletes.File, ok bool, err error) {
 	return f, true, nil
 }
 
+// checkMass refuses a --mass that is not above 0 kg.
+func checkMass(c *cli.Context) error {
+	if c.IsSet("mass") && !(c.Float64("mass") > 0) {
+		return usageError{"--mass must be above 0 kg"}
+	}
+	return nil
+}
+
 // massOn is the rider's body mass on date (YYYY-MM-DD) for the rides
 // under paths: --mass when given (one run's override), else the mass in
 // force that day in the athletes file for the athlete whose folder holds

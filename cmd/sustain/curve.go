@@ -221,8 +221,8 @@ func countTrue(bs ...bool) int {
 // checkMassAndPlot checks --mass (above 0 kg when given) and --plot (a
 // new .png or .svg file, outside the folders read).
 func checkMassAndPlot(c *cli.Context) error {
-	if c.IsSet("mass") && !(c.Float64("mass") > 0) {
-		return usageError{"--mass must be above 0 kg"}
+	if err := checkMass(c); err != nil {
+		return err
 	}
 	if p := c.String("plot"); p != "" && !isPlotName(p) {
 		return usageError{"--plot takes a file name ending in .png or .svg"}

@@ -41,8 +41,8 @@ func reportAction(c *cli.Context) error {
 	if ext := strings.ToLower(filepath.Ext(out)); ext != ".html" && ext != ".htm" {
 		return usageError{"--out takes a file name ending in .html"}
 	}
-	if c.IsSet("mass") && !(c.Float64("mass") > 0) {
-		return usageError{"--mass must be above 0 kg"}
+	if err := checkMass(c); err != nil {
+		return err
 	}
 	if err := checkNewFile(c, "out", out, c.Args().Slice()); err != nil {
 		return err
